@@ -29,6 +29,10 @@ struct Grid {
   [[nodiscard]] double cell_area() const { return dx * dy; }
 };
 
+// Whether loops over this grid's rows are worth splitting over threads: below about 96^2 nodes
+// a parallel region costs more than the loop (measured on the 2-core build machine).
+inline bool threaded(const Grid& g) { return (g.nx + 1) * (g.ny + 1) >= 96 * 96; }
+
 // Plain sum over the interior nodes times dx dy: the PV-conservation integral (CLOSURES.md) and
 // the weight of every energy-budget term (the weight psi - c vanishes on the walls).
 double interior_integral(const Grid& g, const Field& f);

@@ -84,7 +84,7 @@ void Inversion::invert(const std::vector<Field>& q, const std::vector<double>& m
 
   // Every mode is independent: one thread per mode, each with its own buffer. Rows inside one
   // mode are not split, so the result does not depend on the thread count.
-#pragma omp parallel for schedule(static, 1)
+#pragma omp parallel for schedule(static, 1) if (threaded(grid_))
   for (int m = 0; m < n; ++m) {
     double* b = work_[static_cast<std::size_t>(m)].data;
     for (int j = 1; j < ny; ++j) {
@@ -120,7 +120,7 @@ void Inversion::invert(const std::vector<Field>& q, const std::vector<double>& m
     for (int m = 1; m < n; ++m) c += p(k, m) * modal_[static_cast<std::size_t>(m)](0, 0);
     wall_psi[static_cast<std::size_t>(k)] = c;
   }
-#pragma omp parallel for schedule(static)
+#pragma omp parallel for schedule(static) if (threaded(g))
   for (int j = 0; j <= ny; ++j) {
     for (int k = 0; k < n; ++k) {
       Field& out = psi[static_cast<std::size_t>(k)];

@@ -116,7 +116,7 @@ void Model::lateral_friction_into(const ModelState& s, int k, Field& out, double
   const int ny = grid_.ny;
   const double a2 = params_.a2 * weight;
   if (params_.a2 != 0.0) {
-#pragma omp parallel for schedule(static)
+#pragma omp parallel for schedule(static) if (threaded(grid_))
     for (int j = 1; j < ny; ++j) {
       for (int i = 1; i < nx; ++i) {
         out(i, j) += a2 * (ax * (z(i + 1, j) - 2.0 * z(i, j) + z(i - 1, j)) +
@@ -133,7 +133,7 @@ void Model::lateral_friction_into(const ModelState& s, int k, Field& out, double
     lz.col(0).setZero();
     lz.col(ny).setZero();
     const double a4 = params_.a4 * weight;
-#pragma omp parallel for schedule(static)
+#pragma omp parallel for schedule(static) if (threaded(grid_))
     for (int j = 1; j < ny; ++j) {
       for (int i = 1; i < nx; ++i) {
         out(i, j) -= a4 * (ax * (lz(i + 1, j) - 2.0 * lz(i, j) + lz(i - 1, j)) +
@@ -159,7 +159,7 @@ void Model::tendency(const ModelState& s, std::vector<Field>& out) const {
       case Advection::linear: {
         ddx_centred(grid_, psi, o);
         const double b = params_.beta;
-#pragma omp parallel for schedule(static)
+#pragma omp parallel for schedule(static) if (threaded(grid_))
         for (int j = 1; j < ny; ++j) {
           for (int i = 1; i < nx; ++i) o(i, j) *= b;
         }
@@ -173,7 +173,7 @@ void Model::tendency(const ModelState& s, std::vector<Field>& out) const {
     const Field& z = s.zeta[uz(k)];
     const double season = params_.wind.seasonal_factor(s.t);
     const bool top = (k == 0);
-#pragma omp parallel for schedule(static)
+#pragma omp parallel for schedule(static) if (threaded(grid_))
     for (int j = 1; j < ny; ++j) {
       const double w = top ? wind_curl_[uz(j)] * season : 0.0;
       for (int i = 1; i < nx; ++i) o(i, j) = -o(i, j) + w - drag * z(i, j);
@@ -291,7 +291,7 @@ void Model::step(ModelState& s, StepHook* hook) {
     const Field& f0 = tend_[uz(k)];
     const Field& f1 = s.tend_prev1[uz(k)];
     const Field& f2 = s.tend_prev2[uz(k)];
-#pragma omp parallel for schedule(static)
+#pragma omp parallel for schedule(static) if (threaded(grid_))
     for (int j = 1; j < ny; ++j) {
       for (int i = 1; i < nx; ++i) {
         q(i, j) += dt * (c0 * f0(i, j) + c1 * f1(i, j) + c2 * f2(i, j));

@@ -9,7 +9,7 @@ void laplacian(const Grid& g, const Field& f, Field& out) {
   const double ay = 1.0 / (g.dy * g.dy);
   const int nx = g.nx;
   const int ny = g.ny;
-#pragma omp parallel for schedule(static)
+#pragma omp parallel for schedule(static) if (threaded(g))
   for (int j = 1; j < ny; ++j) {
     for (int i = 1; i < nx; ++i) {
       out(i, j) = ax * (f(i + 1, j) - 2.0 * f(i, j) + f(i - 1, j)) +
@@ -47,7 +47,7 @@ void arakawa_jacobian(const Grid& g, const Field& a, const Field& b, Field& out)
   const double c = 1.0 / (12.0 * g.dx * g.dy);
   const int nx = g.nx;
   const int ny = g.ny;
-#pragma omp parallel for schedule(static)
+#pragma omp parallel for schedule(static) if (threaded(g))
   for (int j = 1; j < ny; ++j) {
     for (int i = 1; i < nx; ++i) {
       const double a_e = a(i + 1, j), a_w = a(i - 1, j), a_n = a(i, j + 1), a_s = a(i, j - 1);
@@ -70,7 +70,7 @@ void ddx_centred(const Grid& g, const Field& f, Field& out) {
   const double c = 1.0 / (2.0 * g.dx);
   const int nx = g.nx;
   const int ny = g.ny;
-#pragma omp parallel for schedule(static)
+#pragma omp parallel for schedule(static) if (threaded(g))
   for (int j = 1; j < ny; ++j) {
     for (int i = 1; i < nx; ++i) out(i, j) = c * (f(i + 1, j) - f(i - 1, j));
   }

@@ -1,0 +1,147 @@
+// The run loop: restart bit for bit, stop on a CFL breach with the last good checkpoint kept,
+// and NetCDF output that an independent reader (ncdump from Debian's netcdf-bin) opens with the
+// dimensions, units and Conventions attribute that the CF conventions ask for.
+
+#include <gtest/gtest.h>
+
+#include <array>
+#include <cstdio>
+#include <cstring>
+#include <filesystem>
+#include <string>
+
+#include "harness/run/run.hpp"
+#include "harness/run/run_output.hpp"
+
+namespace plateau {
+namespace {
+
+namespace fs = std::filesystem;
+
+ModelParams two_layer(double dt) {
+  ModelParams p;
+  p.f0 = 8e-5;
+  p.beta = 2e-11;
+  p.thickness_m = {1000.0, 3000.0};
+  p.reduced_gravity = {0.02};
+  p.wind.profile = WindProfile::double_gyre;
+  p.wind.tau0 = 0.1;
+  p.wind.seasonal_amplitude = 0.3;
+  p.wind.seasonal_period_s = 30.0 * 86400.0;
+  p.a2 = 400.0;
+  p.bottom_drag = 1e-7;
+  p.dt = dt;
+  return p;
+}
+
+fs::path scratch(const std::string& name) {
+  const fs::path d = fs::temp_directory_path() / ("plateau-test-run-" + name);
+  fs::remove_all(d);
+  fs::create_directories(d);
+  return d;
+}
+
+RunSchedule short_schedule() {
+  RunSchedule s;
+  s.length_s = 120 * 7200.0;
+  s.spinup_s = 40 * 7200.0;
+  s.snapshot_interval_s = 30 * 7200.0;
+  s.series_interval_s = 10 * 7200.0;
+  s.checkpoint_interval_s = 25 * 7200.0;
+  return s;
+}
+
+bool same_bits(const Field& a, const Field& b) {
+  return a.size() == b.size() &&
+         std::memcmp(a.data(), b.data(), sizeof(double) * static_cast<std::size_t>(a.size())) == 0;
+}
+
+TEST(Run, ResumeIsBitForBitIdenticalToAnUninterruptedRun) {
+  const Grid g(24, 24, 8e5, 8e5);
+  const fs::path dir = scratch("resume");
+  Model straight(g, two_layer(7200.0));
+  const RunRecord whole = run_model(straight, short_schedule(), {});
+
+  RunOptions opt;
+  opt.checkpoint = dir / "ckpt.bin";
+  opt.checkpoint_key = "resume-test";
+  opt.stop_after_step = 57;  // not a checkpoint multiple: the stop writes its own
+  Model first(g, two_layer(7200.0));
+  EXPECT_THROW(run_model(first, short_schedule(), opt), RunInterrupted);
+  opt.stop_after_step = -1;
+  opt.resume = true;
+  Model second(g, two_layer(7200.0));
+  const RunRecord resumed = run_model(second, short_schedule(), opt);
+
+  ASSERT_EQ(resumed.steps, whole.steps);
+  ASSERT_EQ(resumed.mean_count, whole.mean_count);
+  for (int k = 0; k < 2; ++k) {
+    const auto uk = static_cast<std::size_t>(k);
+    EXPECT_TRUE(same_bits(resumed.final_state.q[uk], whole.final_state.q[uk])) << k;
+    EXPECT_TRUE(same_bits(resumed.mean_psi[uk], whole.mean_psi[uk])) << k;
+    EXPECT_TRUE(same_bits(resumed.mean_q[uk], whole.mean_q[uk])) << k;
+  }
+  ASSERT_EQ(resumed.series.size(), whole.series.size());
+  for (std::size_t m = 0; m < whole.series.size(); ++m) {
+    EXPECT_EQ(std::memcmp(&resumed.series[m].total, &whole.series[m].total, sizeof(double)), 0);
+  }
+  EXPECT_EQ(resumed.snapshot_t, whole.snapshot_t);
+  const double r1 = resumed.budget_residual();
+  const double r2 = whole.budget_residual();
+  EXPECT_EQ(std::memcmp(&r1, &r2, sizeof(double)), 0);
+}
+
+TEST(Run, CflBreachStopsWithStepLayerPointAndKeepsTheLastCheckpoint) {
+  const Grid g(24, 24, 8e5, 8e5);
+  const fs::path dir = scratch("cfl");
+  RunSchedule s = short_schedule();
+  s.cfl_limit = 1e-4;  // reached within a few days of wind spin-up
+  s.checkpoint_interval_s = 2 * 7200.0;
+  RunOptions opt;
+  opt.checkpoint = dir / "ckpt.bin";
+  opt.checkpoint_key = "cfl-test";
+  Model m(g, two_layer(7200.0));
+  try {
+    run_model(m, s, opt);
+    FAIL() << "expected a numerical failure";
+  } catch (const NumericalFailure& e) {
+    const std::string msg = e.what();
+    EXPECT_NE(msg.find("step"), std::string::npos) << msg;
+    EXPECT_NE(msg.find("CFL number"), std::string::npos) << msg;
+    EXPECT_NE(msg.find("layer"), std::string::npos) << msg;
+    EXPECT_NE(msg.find("grid point (i="), std::string::npos) << msg;
+    EXPECT_NE(msg.find("days"), std::string::npos) << msg;
+  }
+  EXPECT_TRUE(fs::exists(opt.checkpoint));
+}
+
+TEST(Run, NetcdfOutputOpensInNcdumpWithCfAttributes) {
+  const Grid g(16, 12, 8e5, 6e5);
+  const fs::path dir = scratch("netcdf");
+  Model m(g, two_layer(7200.0));
+  const RunRecord r = run_model(m, short_schedule(), {});
+  const fs::path out = dir / "run-none.nc";
+  write_run_netcdf(r, m, out, {"plateau test run", "test_run", "plateau test"});
+  ASSERT_TRUE(fs::exists(out));
+  const std::string cmd = "ncdump -h " + out.string();
+  FILE* pipe = popen(cmd.c_str(), "r");
+  ASSERT_NE(pipe, nullptr);
+  std::string text;
+  std::array<char, 4096> buf{};
+  while (fgets(buf.data(), static_cast<int>(buf.size()), pipe) != nullptr) text += buf.data();
+  ASSERT_EQ(pclose(pipe), 0) << text;
+  // CF conventions 1.8, sections 2.6.1 (Conventions), 3.1 (units), 4 (coordinates).
+  EXPECT_NE(text.find(":Conventions = \"CF-1.8\""), std::string::npos) << text;
+  EXPECT_NE(text.find("x = 17"), std::string::npos) << text;
+  EXPECT_NE(text.find("y = 13"), std::string::npos) << text;
+  EXPECT_NE(text.find("layer = 2"), std::string::npos) << text;
+  EXPECT_NE(text.find("time = UNLIMITED"), std::string::npos) << text;
+  EXPECT_NE(text.find("double psi(layer, y, x)"), std::string::npos) << text;
+  EXPECT_NE(text.find("psi:units = \"m2 s-1\""), std::string::npos) << text;
+  EXPECT_NE(text.find("q:units = \"s-1\""), std::string::npos) << text;
+  EXPECT_NE(text.find("ocean_barotropic_streamfunction"), std::string::npos) << text;
+  EXPECT_NE(text.find("barotropic_streamfunction:units = \"m3 s-1\""), std::string::npos) << text;
+}
+
+}  // namespace
+}  // namespace plateau

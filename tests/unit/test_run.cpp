@@ -5,11 +5,13 @@
 #include <gtest/gtest.h>
 
 #include <array>
+#include <iostream>
 #include <cstdio>
 #include <cstring>
 #include <filesystem>
 #include <string>
 
+#include "harness/io/checkpoint.hpp"
 #include "harness/run/run.hpp"
 #include "harness/run/run_output.hpp"
 
@@ -95,24 +97,33 @@ TEST(Run, CflBreachStopsWithStepLayerPointAndKeepsTheLastCheckpoint) {
   const Grid g(24, 24, 8e5, 8e5);
   const fs::path dir = scratch("cfl");
   RunSchedule s = short_schedule();
-  s.cfl_limit = 1e-4;  // reached within a few days of wind spin-up
-  s.checkpoint_interval_s = 2 * 7200.0;
+  s.cfl_limit = 2e-3;  // reached after some days of wind spin-up from rest
+  s.checkpoint_interval_s = 7200.0;
   RunOptions opt;
   opt.checkpoint = dir / "ckpt.bin";
   opt.checkpoint_key = "cfl-test";
   Model m(g, two_layer(7200.0));
+  std::string failure_message;
   try {
     run_model(m, s, opt);
     FAIL() << "expected a numerical failure";
   } catch (const NumericalFailure& e) {
     const std::string msg = e.what();
+    std::cout << "  message: " << msg << "\n";
+    failure_message = msg;
     EXPECT_NE(msg.find("step"), std::string::npos) << msg;
     EXPECT_NE(msg.find("CFL number"), std::string::npos) << msg;
     EXPECT_NE(msg.find("layer"), std::string::npos) << msg;
     EXPECT_NE(msg.find("grid point (i="), std::string::npos) << msg;
     EXPECT_NE(msg.find("days"), std::string::npos) << msg;
   }
-  EXPECT_TRUE(fs::exists(opt.checkpoint));
+  // The checkpoint on disk is the last good state: the step before the one that broke.
+  ASSERT_TRUE(fs::exists(opt.checkpoint));
+  const io::CheckpointReader ck(opt.checkpoint, opt.checkpoint_key);
+  const std::int64_t good = ck.get_int("step");
+  EXPECT_GT(good, 0);
+  EXPECT_NE(failure_message.find("step " + std::to_string(good + 1) + ","), std::string::npos)
+      << failure_message;
 }
 
 TEST(Run, NetcdfOutputOpensInNcdumpWithCfAttributes) {

@@ -1,20 +1,37 @@
 // plateau run CASE: one coarse run (or, with --grid truth, a run on the truth grid) written as
 // a NetCDF-4 file. Checkpoints go to OUT/checkpoints/; --resume continues from there.
+//
+// -c NAME picks the closure (built-in, or from a --plugin FILE); its parameters are the
+// declared defaults, then the case's [closure.NAME] table, then --set NAME.KEY=VALUE (or
+// closure.KEY=VALUE), each checked against the declaration. The closure acts as its own
+// fractional step after each dynamics step (harness/closure_host/); the time means of its
+// K map, its other diagnostics, its prognostic fields and its PV tendency go into the NetCDF
+// beside the flow fields.
 
+#include <algorithm>
 #include <atomic>
 #include <chrono>
+#include <cmath>
 #include <csignal>
+#include <cstdint>
 #include <filesystem>
 #include <iomanip>
 #include <iostream>
-#include <omp.h>
 #include <sstream>
+#include <string>
+#include <string_view>
+#include <vector>
+#include <omp.h>
 
 #include <CLI/CLI.hpp>
 
 #include "harness/case/case.hpp"
 #include "harness/cli/cli.hpp"
 #include "harness/cli/progress.hpp"
+#include "harness/closure_host/host.hpp"
+#include "harness/closure_host/parameters.hpp"
+#include "harness/closure_host/plugin.hpp"
+#include "harness/closure_host/registry.hpp"
 #include "harness/io/atomic_file.hpp"
 #include "harness/io/error.hpp"
 #include "harness/io/hash.hpp"
@@ -35,7 +52,52 @@ struct RunCommandOptions {
   std::string grid = "coarse";
   std::filesystem::path out;
   bool resume = false;
+  std::vector<std::string> sets;               // --set NAME.KEY=VALUE
+  std::vector<std::filesystem::path> plugins;  // --plugin FILE
 };
+
+// NetCDF names the run output already uses; a closure field of the same name gets a prefix.
+bool reserved_name(const std::string& n) {
+  constexpr std::string_view kNames =
+      " x y layer interface time series_time layer_thickness reduced_gravity psi q psi_wall"
+      " barotropic_streamfunction psi_snapshot q_snapshot series_t kinetic_energy"
+      " potential_energy total_energy wind_work bottom_drag_work lateral_friction_work"
+      " advection_work closure_work ";
+  return kNames.find(" " + n + " ") != std::string_view::npos;
+}
+
+// The host's time means as NetCDF fields. A depth-integrated (column) field is apportioned to
+// the layers by thickness, so that its sum over the layers is the column value.
+std::vector<ExtraField> closure_output(const ClosureHost& host, const Model& model) {
+  std::vector<ExtraField> out;
+  const double depth = host.setup().total_depth();
+  for (const ClosureMeanField& m : host.mean_fields()) {
+    ExtraField e;
+    e.name = reserved_name(m.info.name) ? "closure_" + m.info.name : m.info.name;
+    e.units = m.info.units;
+    e.long_name = "time-mean " + m.info.long_name;
+    switch (m.info.placement) {
+      case closure::Placement::layer:
+        e.per_layer = m.values;
+        break;
+      case closure::Placement::interface:
+        if (model.n_layers() < 2) continue;
+        e.per_layer = m.values;
+        e.on_interfaces = true;
+        break;
+      case closure::Placement::column:
+        for (int k = 0; k < model.n_layers(); ++k) {
+          e.per_layer.push_back(m.values.front() * (host.setup().h(k) / depth));
+        }
+        e.long_name +=
+            " (a column total apportioned to the layers by thickness: the sum over "
+            "layers is the column value)";
+        break;
+    }
+    out.push_back(std::move(e));
+  }
+  return out;
+}
 
 RunSchedule schedule_of(const Case& c) {
   RunSchedule s;
@@ -49,10 +111,23 @@ RunSchedule schedule_of(const Case& c) {
 }
 
 int run_run(const RunCommandOptions& o, const GlobalOptions& global) {
-  const Case c = load_case(o.case_path);
-  if (o.closure != "none") {
-    throw CaseError("closure '" + o.closure + "' is not known; known closures: none");
+  std::string plugin_bytes;
+  for (const auto& p : o.plugins) {
+    (void)load_closure_plugin(p);
+    plugin_bytes += io::sha256_hex(io::read_file_bytes(p)) + "\n";
   }
+  const Case c = load_case(o.case_path);
+  const closure::Info* info = find_registered_closure(o.closure);
+  if (info == nullptr) {
+    throw CaseError("-c " + o.closure + ": closure '" + o.closure +
+                    "' is not known; allowed: " + registered_closure_names() +
+                    " (or an external closure loaded with --plugin FILE)");
+  }
+  std::vector<ParamOverride> overrides;
+  for (const std::string& text : o.sets) overrides.push_back(parse_override(text));
+  const closure::Params params =
+      resolve_params(*info, c.find_closure(o.closure), o.case_path, overrides);
+  const std::string param_text = canonical_text(*info, params);
   const GridRole role = o.grid == "truth" ? GridRole::truth : GridRole::coarse;
   const std::filesystem::path out =
       o.out.empty() ? std::filesystem::path("results") / (c.name + "-" + o.closure) : o.out;
@@ -62,20 +137,38 @@ int run_run(const RunCommandOptions& o, const GlobalOptions& global) {
 
   omp_set_num_threads(thread_count(global));
   Model model(make_grid(c, role), make_model_params(c, role));
+  HostOptions host_options;
+  host_options.means_after_step = std::llround(c.run.spinup_s / model.params().dt);
+  host_options.means_every =
+      std::max<std::int64_t>(1, std::llround(c.run.series_interval_s / model.params().dt));
+  ClosureHost host(model, make_closure(*info, params, make_setup(model)), host_options);
 
-  // The checkpoint belongs to this case file's exact text, grid, closure and solver version.
-  const std::string key = io::sha256_hex(io::read_file_bytes(o.case_path) + "\n" +
-                                         role_name(role) + "\n" + o.closure + "\n" +
-                                         kProjectVersion + "\n" + kModelHash);
+  // The checkpoint belongs to this case file's exact text, grid, closure with its parameters
+  // (and plug-in library), and solver version.
+  const std::string key =
+      io::sha256_hex(io::read_file_bytes(o.case_path) + "\n" + role_name(role) + "\n" + o.closure +
+                     "\n" + param_text + "\n" + plugin_bytes + kProjectVersion + "\n" + kModelHash);
   RunOptions ro;
+  ro.hook = &host;
   ro.checkpoint = ckpt;
   ro.checkpoint_key = key;
   ro.resume = o.resume;
   ro.stop_flag = &g_stop;
-  ro.progress = progress_printer(std::string("run ") + c.name + " [" + role_name(role) + "]",
-                                 global.quiet);
+  ro.progress =
+      progress_printer(std::string("run ") + c.name + " [" + role_name(role) + "]", global.quiet);
   if (o.resume && !std::filesystem::exists(ckpt) && !global.quiet) {
     print_warning(std::cerr, "no checkpoint at " + ckpt.string() + ": starting from rest");
+  }
+  if (o.resume && std::filesystem::exists(ckpt)) {
+    // The run loop's checkpoint holds the model state only (see the closure host's notes).
+    if (!host.prognostic().empty()) {
+      print_warning(std::cerr, "closure " + o.closure +
+                                   " has prognostic fields that the checkpoint does not hold: "
+                                   "they restart from their initial values, so the resumed run "
+                                   "differs from an uninterrupted one");
+    } else if (!global.quiet && !host.closure().diagnostic_fields().empty()) {
+      print_warning(std::cerr, "the closure's time-mean fields cover the resumed part only");
+    }
   }
   std::signal(SIGINT, on_stop_signal);
   std::signal(SIGTERM, on_stop_signal);
@@ -90,18 +183,23 @@ int run_run(const RunCommandOptions& o, const GlobalOptions& global) {
     return kExitNumerical;
   } catch (const RunInterrupted& e) {
     std::cerr << "\nplateau: interrupted: " << e.what() << "\nplateau: continue with: plateau run "
-              << o.case_path.string() << " --resume" << (o.out.empty() ? "" : " --out " + o.out.string())
-              << '\n';
+              << o.case_path.string() << " --resume"
+              << (o.out.empty() ? "" : " --out " + o.out.string()) << '\n';
     return 130;
   }
   const double wall = std::chrono::duration<double>(std::chrono::steady_clock::now() - t0).count();
 
   std::ostringstream hist;
   hist << "plateau run " << o.case_path.string() << " -c " << o.closure << " --grid " << o.grid;
-  write_run_netcdf(rec, model, nc,
-                   {"plateau " + std::string(role_name(role)) + " run of case " + c.name +
-                        " with closure " + o.closure,
-                    hist.str(), std::string("plateau ") + kProjectVersion + ", model " + kModelHash});
+  for (const auto& p : o.plugins) hist << " --plugin " << p.string();
+  for (const auto& set : o.sets) hist << " --set " << set;
+  hist << " (closure parameters: " << (param_text.empty() ? "none" : param_text) << ")";
+  write_run_netcdf(
+      rec, model, nc,
+      {"plateau " + std::string(role_name(role)) + " run of case " + c.name + " with closure " +
+           o.closure,
+       hist.str(), std::string("plateau ") + kProjectVersion + ", model " + kModelHash},
+      closure_output(host, model));
   std::filesystem::remove(ckpt);
 
   if (!global.quiet) {
@@ -115,9 +213,12 @@ int run_run(const RunCommandOptions& o, const GlobalOptions& global) {
     std::cout << "  final energy       " << rho0 * last.total << " J\n";
     if (window > 0) {
       std::cout << "  mean wind power    " << rho0 * rec.budget_integral.wind / window << " W\n"
+                << "  mean closure power " << rho0 * rec.closure_integral / window << " W\n"
                 << "  budget residual    " << rho0 * rec.budget_residual() / window
                 << " W (energy change minus the sum of the budget terms, over the window)\n";
     }
+    if (!param_text.empty()) std::cout << "  closure parameters " << param_text << '\n';
+    std::cout << "  closure sub-steps  at most " << host.max_substeps() << " per step\n";
     std::cout << "  wrote " << nc.string() << '\n';
   }
   return kExitOk;
@@ -128,13 +229,21 @@ int run_run(const RunCommandOptions& o, const GlobalOptions& global) {
 void add_run_command(CLI::App& app, Invocation& invocation) {
   auto opts = std::make_shared<RunCommandOptions>();
   CLI::App* cmd = app.add_subcommand("run", "one model run of a case, written as NetCDF");
-  cmd->add_option("case", opts->case_path, "case file (TOML)")->required()->check(CLI::ExistingFile);
+  cmd->add_option("case", opts->case_path, "case file (TOML)")
+      ->required()
+      ->check(CLI::ExistingFile);
   cmd->add_option("-c,--closure", opts->closure, "closure to run with (default: none)");
   cmd->add_option("--grid", opts->grid, "which of the case's grids: coarse (default) or truth")
       ->check(CLI::IsMember({"coarse", "truth"}));
   cmd->add_option("--out", opts->out, "results folder (default: results/CASE-CLOSURE/)");
   cmd->add_flag("--resume", opts->resume, "continue from the folder's checkpoint");
-  cmd->callback([opts, &invocation]() { invocation.exit_code = run_run(*opts, invocation.global); });
+  cmd->add_option("--set", opts->sets,
+                  "override a closure parameter: NAME.KEY=VALUE, or closure.KEY=VALUE for the "
+                  "closure chosen with -c (repeatable)");
+  cmd->add_option("--plugin", opts->plugins, "load an external closure (shared library)")
+      ->check(CLI::ExistingFile);
+  cmd->callback(
+      [opts, &invocation]() { invocation.exit_code = run_run(*opts, invocation.global); });
 }
 
 }  // namespace plateau::cli

@@ -3,8 +3,8 @@
 // the boundary nodes. A Field stores one value per node, x fastest (Eigen column-major with
 // rows = nx + 1), so Field(i, j) is node (x_i, y_j).
 
-#include <Eigen/Core>
 #include <vector>
+#include <Eigen/Core>
 
 namespace plateau {
 

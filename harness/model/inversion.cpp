@@ -35,8 +35,10 @@ Inversion::Inversion(const Grid& grid, const LayerStack& layers, double beta)
     const double lam = layers_.lambda(m);
     for (int j = 0; j < my; ++j) {
       for (int i = 0; i < mx; ++i) {
-        e[static_cast<std::size_t>(j) * static_cast<std::size_t>(mx) + static_cast<std::size_t>(i)] =
-            1.0 / ((mux[static_cast<std::size_t>(i)] + muy[static_cast<std::size_t>(j)] - lam) * norm);
+        e[static_cast<std::size_t>(j) * static_cast<std::size_t>(mx) +
+          static_cast<std::size_t>(i)] =
+            1.0 /
+            ((mux[static_cast<std::size_t>(i)] + muy[static_cast<std::size_t>(j)] - lam) * norm);
       }
     }
   }
@@ -138,7 +140,8 @@ std::vector<double> Inversion::mode_masses(const std::vector<Field>& psi) const 
   std::vector<double> out(static_cast<std::size_t>(n), 0.0);
   std::vector<double> layer_mass(static_cast<std::size_t>(n));
   for (int k = 0; k < n; ++k) {
-    layer_mass[static_cast<std::size_t>(k)] = trapezoid_integral(grid_, psi[static_cast<std::size_t>(k)]);
+    layer_mass[static_cast<std::size_t>(k)] =
+        trapezoid_integral(grid_, psi[static_cast<std::size_t>(k)]);
   }
   for (int m = 0; m < n; ++m) {
     double s = 0.0;

@@ -1,16 +1,15 @@
 #include "harness/model/layers.hpp"
 
-#include <Eigen/Eigenvalues>
 #include <algorithm>
 #include <cmath>
 #include <numeric>
 #include <stdexcept>
 #include <utility>
+#include <Eigen/Eigenvalues>
 
 namespace plateau {
 
-LayerStack::LayerStack(double f0_, std::vector<double> thickness_m,
-                       std::vector<double> gprime_m_s2)
+LayerStack::LayerStack(double f0_, std::vector<double> thickness_m, std::vector<double> gprime_m_s2)
     : n(static_cast<int>(thickness_m.size())),
       f0(f0_),
       h(std::move(thickness_m)),
@@ -42,7 +41,7 @@ LayerStack::LayerStack(double f0_, std::vector<double> thickness_m,
   // Eigenvalues of S are -lambda; sort lambda ascending (barotropic first).
   std::vector<int> order(static_cast<std::size_t>(n));
   std::iota(order.begin(), order.end(), 0);
-  const Eigen::VectorXd ev = es.eigenvalues();
+  const Eigen::VectorXd& ev = es.eigenvalues();
   std::sort(order.begin(), order.end(), [&](int a, int b) { return -ev(a) < -ev(b); });
   lambda.resize(n);
   p.resize(n, n);

@@ -34,8 +34,8 @@ enum class Advection {
 };
 
 struct ModelParams {
-  double f0 = 0.0;    // s^-1
-  double beta = 0.0;  // m^-1 s^-1
+  double f0 = 0.0;       // s^-1
+  double beta = 0.0;     // m^-1 s^-1
   double rho0 = 1025.0;  // kg m^-3
   std::vector<double> thickness_m;
   std::vector<double> reduced_gravity;  // m s^-2
@@ -57,9 +57,9 @@ struct ModelParams {
 struct ModelState {
   double t = 0.0;  // s since the run's start
   std::int64_t step = 0;
-  std::vector<Field> q;      // s^-1, every node
-  std::vector<Field> psi;    // m^2 s^-1, every node
-  std::vector<Field> zeta;   // s^-1, every node (walls from the wall condition)
+  std::vector<Field> q;           // s^-1, every node
+  std::vector<Field> psi;         // m^2 s^-1, every node
+  std::vector<Field> zeta;        // s^-1, every node (walls from the wall condition)
   std::vector<double> wall_psi;   // c_k
   std::vector<double> mode_mass;  // trapezoid integral of each mode of psi, kept fixed
   // Adams-Bashforth memory: tendencies of the previous two steps ([0] = n-1, [1] = n-2).
@@ -130,7 +130,7 @@ class Model {
   ModelParams params_;
   LayerStack layers_;
   Inversion inversion_;
-  std::vector<double> wind_curl_;  // curl(tau)/(rho0 H1) per row at seasonal factor 1, s^-2
+  std::vector<double> wind_curl_;       // curl(tau)/(rho0 H1) per row at seasonal factor 1, s^-2
   mutable std::vector<Field> scratch_;  // per layer: lap(zeta) for the biharmonic term
   mutable std::vector<Field> tend_;     // the current tendency
 

@@ -57,10 +57,10 @@ void arakawa_jacobian(const Grid& g, const Field& a, const Field& b, Field& out)
       const double b_ne = b(i + 1, j + 1), b_nw = b(i - 1, j + 1);
       const double b_se = b(i + 1, j - 1), b_sw = b(i - 1, j - 1);
       const double jpp = (a_e - a_w) * (b_n - b_s) - (a_n - a_s) * (b_e - b_w);
-      const double jpx = a_e * (b_ne - b_se) - a_w * (b_nw - b_sw) - a_n * (b_ne - b_nw) +
-                         a_s * (b_se - b_sw);
-      const double jxp = b_n * (a_ne - a_nw) - b_s * (a_se - a_sw) - b_e * (a_ne - a_se) +
-                         b_w * (a_nw - a_sw);
+      const double jpx =
+          a_e * (b_ne - b_se) - a_w * (b_nw - b_sw) - a_n * (b_ne - b_nw) + a_s * (b_se - b_sw);
+      const double jxp =
+          b_n * (a_ne - a_nw) - b_s * (a_se - a_sw) - b_e * (a_ne - a_se) + b_w * (a_nw - a_sw);
       out(i, j) = c * (jpp + jpx + jxp);
     }
   }

@@ -1,11 +1,11 @@
 #include "harness/model/sine_transform.hpp"
 
+#include <unistd.h>
 #include <cstdio>
 #include <mutex>
 #include <stdexcept>
 #include <string>
 #include <system_error>
-#include <unistd.h>
 
 namespace plateau {
 namespace {
@@ -84,8 +84,7 @@ SineTransform2D::SineTransform2D(int nx, int ny) : mx_(nx - 1), my_(ny - 1) {
   const auto n = static_cast<std::size_t>(mx_) * static_cast<std::size_t>(my_);
   FftwBuffer scratch(n);
   // Planning a measured plan the wisdom already holds returns that same plan at once.
-  plan_ = fftw_plan_r2r_2d(my_, mx_, scratch.data, scratch.data, FFTW_RODFT00, FFTW_RODFT00,
-                           flags);
+  plan_ = fftw_plan_r2r_2d(my_, mx_, scratch.data, scratch.data, FFTW_RODFT00, FFTW_RODFT00, flags);
   if (plan_ == nullptr) throw std::runtime_error("FFTW could not plan a sine transform");
   if (measure) save_wisdom_locked();
 }

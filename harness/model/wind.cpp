@@ -36,8 +36,9 @@ double Wind::curl(double y, double ly, double dy) const {
     }
     case WindProfile::double_gyre: {
       const double th = 2.0 * pi * y / ly;
-      const double dtau = tau0 * (2.0 * pi / ly) * std::sin(th) * (1.0 + asymmetry * (2.0 * y / ly - 1.0)) -
-                          tau0 * std::cos(th) * (2.0 * asymmetry / ly);
+      const double dtau =
+          tau0 * (2.0 * pi / ly) * std::sin(th) * (1.0 + asymmetry * (2.0 * y / ly - 1.0)) -
+          tau0 * std::cos(th) * (2.0 * asymmetry / ly);
       return -dtau;
     }
     case WindProfile::table:

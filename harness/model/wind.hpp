@@ -10,8 +10,8 @@ enum class WindProfile { single_gyre, double_gyre, table };
 
 struct Wind {
   WindProfile profile = WindProfile::double_gyre;
-  double tau0 = 0.0;          // N m^-2
-  double asymmetry = 0.0;     // dimensionless, see wind_stress_x
+  double tau0 = 0.0;       // N m^-2
+  double asymmetry = 0.0;  // dimensionless, see wind_stress_x
   double seasonal_amplitude = 0.0;
   double seasonal_period_s = 365.0 * 86400.0;
   std::vector<double> table_y_m;

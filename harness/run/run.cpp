@@ -24,8 +24,8 @@ void load_field(const io::CheckpointReader& r, const std::string& name, const Gr
   const std::vector<double> v = r.get_doubles(name);
   f = g.zeros();
   if (v.size() != static_cast<std::size_t>(f.size())) {
-    throw io::IoError(r.path(), "checkpoint " + r.path().string() + ": blob '" + name +
-                                    "' has " + std::to_string(v.size()) + " values, expected " +
+    throw io::IoError(r.path(), "checkpoint " + r.path().string() + ": blob '" + name + "' has " +
+                                    std::to_string(v.size()) + " values, expected " +
                                     std::to_string(f.size()) + " (another grid?)");
   }
   std::copy(v.begin(), v.end(), f.data());
@@ -57,7 +57,7 @@ BudgetTerms terms_from(const std::vector<double>& v, std::size_t at = 0) {
 struct LoopState {
   ModelState state;
   RunRecord record;
-  BudgetTerms last_terms;      // budget at the previous step (trapezoid in time)
+  BudgetTerms last_terms;  // budget at the previous step (trapezoid in time)
   bool have_last_terms = false;
 };
 
@@ -65,8 +65,7 @@ void write_checkpoint(const LoopState& ls, const RunOptions& opt, int n) {
   io::CheckpointWriter w(opt.checkpoint_key);
   const ModelState& s = ls.state;
   const RunRecord& r = ls.record;
-  const std::vector<double> meta = {s.t, r.mean_start_s, r.energy_window_start,
-                                    r.closure_integral};
+  const std::vector<double> meta = {s.t, r.mean_start_s, r.energy_window_start, r.closure_integral};
   w.add("meta", meta);
   w.add("step", s.step);
   w.add("history", static_cast<std::int64_t>(s.history));
@@ -199,15 +198,22 @@ RunRecord run_model(Model& model, const RunSchedule& schedule, const RunOptions&
   const std::int64_t total = steps_for(schedule.length_s, dt);
   const std::int64_t spinup = steps_for(schedule.spinup_s, dt);
   const std::int64_t snap_every =
-      schedule.snapshot_interval_s > 0 ? std::max<std::int64_t>(1, steps_for(schedule.snapshot_interval_s, dt)) : 0;
+      schedule.snapshot_interval_s > 0
+          ? std::max<std::int64_t>(1, steps_for(schedule.snapshot_interval_s, dt))
+          : 0;
   const std::int64_t series_every =
-      schedule.series_interval_s > 0 ? std::max<std::int64_t>(1, steps_for(schedule.series_interval_s, dt)) : 1;
+      schedule.series_interval_s > 0
+          ? std::max<std::int64_t>(1, steps_for(schedule.series_interval_s, dt))
+          : 1;
   const std::int64_t ckpt_every =
-      schedule.checkpoint_interval_s > 0 ? std::max<std::int64_t>(1, steps_for(schedule.checkpoint_interval_s, dt)) : 0;
+      schedule.checkpoint_interval_s > 0
+          ? std::max<std::int64_t>(1, steps_for(schedule.checkpoint_interval_s, dt))
+          : 0;
 
   LoopState ls;
   bool resumed = false;
-  if (options.resume && !options.checkpoint.empty() && std::filesystem::exists(options.checkpoint)) {
+  if (options.resume && !options.checkpoint.empty() &&
+      std::filesystem::exists(options.checkpoint)) {
     read_checkpoint(ls, options, model);
     resumed = true;
   } else {
@@ -261,7 +267,8 @@ RunRecord run_model(Model& model, const RunSchedule& schedule, const RunOptions&
     check_health(model, s, schedule.cfl_limit);
     const bool in_window = s.step > spinup;
     const bool series_now = s.step % series_every == 0 || s.step == total;
-    const double closure_power = options.hook != nullptr ? options.hook->last_energy_tendency() : 0.0;
+    const double closure_power =
+        options.hook != nullptr ? options.hook->last_energy_tendency() : 0.0;
     if (in_window || series_now || s.step == spinup) {
       const BudgetTerms b = model.budget(s);
       if (in_window) {
@@ -302,15 +309,14 @@ RunRecord run_model(Model& model, const RunSchedule& schedule, const RunOptions&
     report(false);
     const bool stop_now = (options.stop_after_step >= 0 && s.step >= options.stop_after_step) ||
                           (options.stop_flag != nullptr && options.stop_flag->load());
-    const bool ckpt_now = !options.checkpoint.empty() &&
-                          ((ckpt_every > 0 && s.step % ckpt_every == 0) || stop_now);
+    const bool ckpt_now =
+        !options.checkpoint.empty() && ((ckpt_every > 0 && s.step % ckpt_every == 0) || stop_now);
     if (ckpt_now) write_checkpoint(ls, options, n);
     if (stop_now) {
-      throw RunInterrupted("run stopped at step " + std::to_string(s.step) + " of " +
-                           std::to_string(total) +
-                           (options.checkpoint.empty()
-                                ? std::string(" (no checkpoint)")
-                                : "; checkpoint " + options.checkpoint.string()));
+      throw RunInterrupted(
+          "run stopped at step " + std::to_string(s.step) + " of " + std::to_string(total) +
+          (options.checkpoint.empty() ? std::string(" (no checkpoint)")
+                                      : "; checkpoint " + options.checkpoint.string()));
     }
   }
   report(true);

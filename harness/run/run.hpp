@@ -35,9 +35,9 @@ class RunInterrupted : public std::runtime_error {
 struct RunSchedule {
   double length_s = 0.0;
   double spinup_s = 0.0;
-  double snapshot_interval_s = 0.0;   // 0: none
-  double series_interval_s = 0.0;     // 0: every step
-  double checkpoint_interval_s = 0.0; // 0: none until the end
+  double snapshot_interval_s = 0.0;    // 0: none
+  double series_interval_s = 0.0;      // 0: every step
+  double checkpoint_interval_s = 0.0;  // 0: none until the end
   double cfl_limit = 0.5;
 };
 
@@ -60,8 +60,8 @@ struct RunOptions {
   bool resume = false;               // start from the checkpoint if there is one
   BudgetHook* hook = nullptr;        // a closure acting after each dynamics step
   std::function<void(const Progress&)> progress;  // called about every 1% and at the end
-  std::int64_t stop_after_step = -1;  // tests: stop as if killed once this step is done
-  const std::atomic<bool>* stop_flag = nullptr;  // set by a signal handler: checkpoint and stop
+  std::int64_t stop_after_step = -1;              // tests: stop as if killed once this step is done
+  const std::atomic<bool>* stop_flag = nullptr;   // set by a signal handler: checkpoint and stop
 };
 
 // One sample of the energy series. Energies in m^5 s^-2, tendencies in m^5 s^-3.

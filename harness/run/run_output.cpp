@@ -14,7 +14,8 @@ std::vector<double> stack(const std::vector<Field>& fields) {
 }  // namespace
 
 void write_run_netcdf(const RunRecord& r, const Model& model, const std::filesystem::path& path,
-                      const io::FileDescription& description, const std::vector<ExtraField>& extra) {
+                      const io::FileDescription& description,
+                      const std::vector<ExtraField>& extra) {
   const Grid& g = model.grid();
   const int n = model.n_layers();
   const double rho0 = model.params().rho0;
@@ -33,43 +34,88 @@ void write_run_netcdf(const RunRecord& r, const Model& model, const std::filesys
 
   w.define_variable({"layer_thickness", {"layer"}, "m", "layer thickness at rest", "", false});
   if (n > 1) {
-    w.define_variable({"reduced_gravity", {"interface"}, "m s-2",
-                       "reduced gravity at the interface below the layer", "", false});
+    w.define_variable({"reduced_gravity",
+                       {"interface"},
+                       "m s-2",
+                       "reduced gravity at the interface below the layer",
+                       "",
+                       false});
   }
-  w.define_variable({"psi", {"layer", "y", "x"}, "m2 s-1",
-                     "time-mean layer streamfunction (u = -dpsi/dy, v = dpsi/dx)", "", true});
-  w.define_variable({"q", {"layer", "y", "x"}, "s-1", "time-mean quasi-geostrophic potential vorticity", "", true});
-  w.define_variable({"psi_wall", {"layer"}, "m2 s-1",
-                     "time-mean wall value c_k of the layer streamfunction (mass constraint)", "", false});
-  w.define_variable({"barotropic_streamfunction", {"y", "x"}, "m3 s-1",
+  w.define_variable({"psi",
+                     {"layer", "y", "x"},
+                     "m2 s-1",
+                     "time-mean layer streamfunction (u = -dpsi/dy, v = dpsi/dx)",
+                     "",
+                     true});
+  w.define_variable({"q",
+                     {"layer", "y", "x"},
+                     "s-1",
+                     "time-mean quasi-geostrophic potential vorticity",
+                     "",
+                     true});
+  w.define_variable({"psi_wall",
+                     {"layer"},
+                     "m2 s-1",
+                     "time-mean wall value c_k of the layer streamfunction (mass constraint)",
+                     "",
+                     false});
+  w.define_variable({"barotropic_streamfunction",
+                     {"y", "x"},
+                     "m3 s-1",
                      "time-mean barotropic transport streamfunction sum_k H_k (psi_k - c_k)",
-                     "ocean_barotropic_streamfunction", true});
-  w.define_variable({"psi_snapshot", {"time", "layer", "y", "x"}, "m2 s-1",
-                     "layer streamfunction, instantaneous", "", true});
-  w.define_variable({"q_snapshot", {"time", "layer", "y", "x"}, "s-1",
-                     "potential vorticity, instantaneous", "", true});
-  w.define_variable({"series_t", {"series_time"}, std::string(io::kTimeUnits),
-                     "time of the energy series samples", "", false});
+                     "ocean_barotropic_streamfunction",
+                     true});
+  w.define_variable({"psi_snapshot",
+                     {"time", "layer", "y", "x"},
+                     "m2 s-1",
+                     "layer streamfunction, instantaneous",
+                     "",
+                     true});
+  w.define_variable({"q_snapshot",
+                     {"time", "layer", "y", "x"},
+                     "s-1",
+                     "potential vorticity, instantaneous",
+                     "",
+                     true});
+  w.define_variable({"series_t",
+                     {"series_time"},
+                     std::string(io::kTimeUnits),
+                     "time of the energy series samples",
+                     "",
+                     false});
   w.put_attribute("series_t", "calendar", io::kTimeCalendar);
-  w.define_variable({"kinetic_energy", {"series_time", "layer"}, "J",
-                     "basin-integrated kinetic energy of the layer (times rho0)", "", false});
+  w.define_variable({"kinetic_energy",
+                     {"series_time", "layer"},
+                     "J",
+                     "basin-integrated kinetic energy of the layer (times rho0)",
+                     "",
+                     false});
   if (n > 1) {
-    w.define_variable({"potential_energy", {"series_time", "interface"}, "J",
-                       "basin-integrated available potential energy of the interface", "", false});
+    w.define_variable({"potential_energy",
+                       {"series_time", "interface"},
+                       "J",
+                       "basin-integrated available potential energy of the interface",
+                       "",
+                       false});
   }
   w.define_variable({"total_energy", {"series_time"}, "J", "total energy", "", false});
-  const char* terms[] = {"wind_work", "bottom_drag_work", "lateral_friction_work",
-                         "advection_work", "closure_work"};
-  const char* term_names[] = {"energy input by the wind", "energy tendency of bottom drag",
-                              "energy tendency of lateral friction",
-                              "energy tendency of advection (zero to rounding with the Arakawa Jacobian)",
-                              "energy tendency of the eddy closure"};
+  const char* terms[] = {"wind_work", "bottom_drag_work", "lateral_friction_work", "advection_work",
+                         "closure_work"};
+  const char* term_names[] = {
+      "energy input by the wind", "energy tendency of bottom drag",
+      "energy tendency of lateral friction",
+      "energy tendency of advection (zero to rounding with the Arakawa Jacobian)",
+      "energy tendency of the eddy closure"};
   for (int t = 0; t < 5; ++t) {
     w.define_variable({terms[t], {"series_time"}, "W", term_names[t], "", false});
   }
   for (const ExtraField& e : extra) {
-    w.define_variable({e.name, {e.on_interfaces ? "interface" : "layer", "y", "x"}, e.units,
-                       e.long_name, "", true});
+    w.define_variable({e.name,
+                       {e.on_interfaces ? "interface" : "layer", "y", "x"},
+                       e.units,
+                       e.long_name,
+                       "",
+                       true});
   }
 
   w.put_global_attribute("model_time_end_s", r.t_end);

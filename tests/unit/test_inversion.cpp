@@ -74,9 +74,8 @@ TEST_P(RoundTrip, QToPsiToQIsExactToRounding) {
   model.diagnose(s);  // psi from q
   for (int k = 0; k < layers; ++k) {
     const double scale = psi0[static_cast<std::size_t>(k)].abs().maxCoeff();
-    const double err = (s.psi[static_cast<std::size_t>(k)] - psi0[static_cast<std::size_t>(k)])
-                           .abs()
-                           .maxCoeff();
+    const double err =
+        (s.psi[static_cast<std::size_t>(k)] - psi0[static_cast<std::size_t>(k)]).abs().maxCoeff();
     // Rounding error of a sine-transform solve grows like n log n eps (common practice).
     EXPECT_LT(err, 1e-11 * scale * nx) << "layer " << k;
   }

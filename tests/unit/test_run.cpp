@@ -5,10 +5,10 @@
 #include <gtest/gtest.h>
 
 #include <array>
-#include <iostream>
 #include <cstdio>
 #include <cstring>
 #include <filesystem>
+#include <iostream>
 #include <string>
 
 #include "harness/io/checkpoint.hpp"

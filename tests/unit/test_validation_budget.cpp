@@ -76,8 +76,8 @@ BudgetResult run_budget(const BudgetCase& c, double dt) {
   }
   r.de = model.energy(s).total() - e0;
   r.residual = r.de - (r.wind + r.drag + r.friction + r.advection);
-  r.largest = std::max({std::abs(r.wind), std::abs(r.drag), std::abs(r.friction),
-                        std::abs(r.advection)});
+  r.largest =
+      std::max({std::abs(r.wind), std::abs(r.drag), std::abs(r.friction), std::abs(r.advection)});
   return r;
 }
 
@@ -87,10 +87,11 @@ TEST_P(EnergyBudget, ClosesToTimeSteppingError) {
   const BudgetCase& c = GetParam();
   const BudgetResult coarse = run_budget(c, 7200.0);
   const BudgetResult fine = run_budget(c, 3600.0);
-  std::printf("%s: dE %.4e; wind %.4e drag %.4e friction %.4e advection %.2e (m^5 s^-2); "
-              "max CFL %.3f\n",
-              c.name.c_str(), coarse.de, coarse.wind, coarse.drag, coarse.friction,
-              coarse.advection, coarse.max_cfl);
+  std::printf(
+      "%s: dE %.4e; wind %.4e drag %.4e friction %.4e advection %.2e (m^5 s^-2); "
+      "max CFL %.3f\n",
+      c.name.c_str(), coarse.de, coarse.wind, coarse.drag, coarse.friction, coarse.advection,
+      coarse.max_cfl);
   const double rel_coarse = std::abs(coarse.residual) / coarse.largest;
   const double rel_fine = std::abs(fine.residual) / fine.largest;
   std::printf("%s: residual / largest term: dt 7200 s %.3e, dt 3600 s %.3e, ratio %.2f\n",

@@ -3,13 +3,13 @@
 
 #include <gtest/gtest.h>
 
-#include <Eigen/Sparse>
-#include <Eigen/SparseCholesky>
 #include <algorithm>
 #include <cmath>
 #include <cstdio>
 #include <random>
 #include <vector>
+#include <Eigen/Sparse>
+#include <Eigen/SparseCholesky>
 
 #include "harness/model/model.hpp"
 
@@ -95,10 +95,11 @@ TEST(ValidationArakawa, Identities) {
     // Wall-only case first: the interior sum of J is a wall flux, not zero.
     Field jac = g.zeros();
     arakawa_jacobian(g, psi, q, jac);
-    std::printf("walls-only constant: sum J / sum |J| = %.2e, sum q J / sum |q J| = %.2e "
-                "(not identities of the walled scheme)\n",
-                std::abs(interior_dot(g, ones, jac)) / abs_dot(g, ones, jac),
-                std::abs(interior_dot(g, q, jac)) / abs_dot(g, q, jac));
+    std::printf(
+        "walls-only constant: sum J / sum |J| = %.2e, sum q J / sum |q J| = %.2e "
+        "(not identities of the walled scheme)\n",
+        std::abs(interior_dot(g, ones, jac)) / abs_dot(g, ones, jac),
+        std::abs(interior_dot(g, q, jac)) / abs_dot(g, q, jac));
     for (int j = 0; j <= g.ny; ++j) {
       for (int i = 0; i <= g.nx; ++i) {
         if (i <= 1 || j <= 1 || i >= g.nx - 1 || j >= g.ny - 1) {

@@ -41,7 +41,8 @@ std::vector<Field> run(int threads) {
     for (int i = 1; i < g.nx; ++i) {
       const double x = g.x(i) / g.lx_m;
       const double y = g.y(j) / g.ly_m;
-      psi[0](i, j) = 2e4 * std::sin(3.0 * x) * std::sin(std::numbers::pi * y) * std::cos(5.0 * x * y);
+      psi[0](i, j) =
+          2e4 * std::sin(3.0 * x) * std::sin(std::numbers::pi * y) * std::cos(5.0 * x * y);
       psi[1](i, j) = -5e3 * std::sin(std::numbers::pi * x) * std::sin(2.0 * std::numbers::pi * y);
     }
   }
@@ -54,7 +55,8 @@ bool identical(const std::vector<Field>& a, const std::vector<Field>& b) {
   if (a.size() != b.size()) return false;
   for (std::size_t k = 0; k < a.size(); ++k) {
     if (a[k].size() != b[k].size()) return false;
-    if (std::memcmp(a[k].data(), b[k].data(), sizeof(double) * static_cast<std::size_t>(a[k].size())) != 0) {
+    if (std::memcmp(a[k].data(), b[k].data(),
+                    sizeof(double) * static_cast<std::size_t>(a[k].size())) != 0) {
       return false;
     }
   }

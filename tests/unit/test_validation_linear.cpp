@@ -5,19 +5,20 @@
 // program is used as a reference. Sign conventions (PHYSICS.md section 1): u = -psi_y,
 // v = psi_x, dq/dt = -beta psi_x + W - r zeta + A2 lap zeta, W = curl_z(tau) / (rho0 H) with
 // curl_z tau = -d(tau_x)/dy. For the single gyre tau_x = -tau0 cos(pi y / Ly), so
-//   curl_z tau = -tau0 (pi / Ly) sin(pi y / Ly) < 0   and   W = W0 sin(l y), W0 = -tau0 l / (rho0 H),
+//   curl_z tau = -tau0 (pi / Ly) sin(pi y / Ly) < 0   and   W = W0 sin(l y), W0 = -tau0 l / (rho0
+//   H),
 // an anticyclonic (clockwise) subtropical gyre: psi > 0 inside, southward interior flow
 // (v = W / beta < 0) and a northward western boundary current.
 
 #include <gtest/gtest.h>
 
-#include <Eigen/Dense>
-#include <Eigen/Eigenvalues>
 #include <algorithm>
 #include <cmath>
 #include <complex>
 #include <numbers>
 #include <vector>
+#include <Eigen/Dense>
+#include <Eigen/Eigenvalues>
 
 #include "harness/model/model.hpp"
 
@@ -273,8 +274,8 @@ class MunkRun : public ::testing::Test {
         const double x = g.x(i);
         const double e = std::exp(-x / (2.0 * kMunkD));
         psi[0](i, j) = w0 * (x - kL) / kBeta +
-                       w0 * kL / kBeta * e * (std::cos(s3 * x / (2 * kMunkD)) +
-                                              std::sin(s3 * x / (2 * kMunkD)) / s3);
+                       w0 * kL / kBeta * e *
+                           (std::cos(s3 * x / (2 * kMunkD)) + std::sin(s3 * x / (2 * kMunkD)) / s3);
       }
     }
     state_ = new ModelState(model_->state_from_psi(psi));
@@ -343,8 +344,8 @@ TEST_F(MunkRun, WesternBoundaryLayerMatchesMunk1950) {
       break;
     }
   }
-  const double x_munk = first_down_crossing([&](double x) { return munk(x, 1); }, 1.0, 10 * d,
-                                            1000);
+  const double x_munk =
+      first_down_crossing([&](double x) { return munk(x, 1); }, 1.0, 10 * d, 1000);
   // Leading order in d/Lx: v ~ e^(-x/2d) sin(sqrt(3) x/2d) vanishes at x = 2 pi d / sqrt(3).
   const double x_leading = 2.0 * kPi / std::sqrt(3.0) * d;
   std::printf("Munk v zero crossing: model %.4f d, Munk x-problem %.4f d, leading order %.4f d\n",
@@ -367,8 +368,7 @@ TEST_F(MunkRun, WesternBoundaryLayerMatchesMunk1950) {
   const double vp = v(imax + 1);
   const double xv_model = g.x(imax) + 0.5 * g.dx * (vm - vp) / (vm - 2.0 * v0 + vp);
   const double xv_leading = 2.0 * kPi / (3.0 * std::sqrt(3.0)) * d;
-  std::printf("Munk v maximum: model %.4f d, leading order %.4f d\n", xv_model / d,
-              xv_leading / d);
+  std::printf("Munk v maximum: model %.4f d, leading order %.4f d\n", xv_model / d, xv_leading / d);
   // Munk (1950): within half a grid interval of the leading-order position.
   EXPECT_NEAR(xv_model, xv_leading, 0.5 * g.dx) << "Munk (1950) position of the v maximum";
 }

@@ -35,9 +35,9 @@ constexpr double kBeta = 2.0e-11;
 constexpr double kF0 = 5.0e-5;
 
 struct ModeResult {
-  double period = 0.0;        // measured, s
+  double period = 0.0;  // measured, s
   double period_formula = 0.0;
-  double max_wall_psi = 0.0;  // max over time of |c_1| / max |psi_1(0)|
+  double max_wall_psi = 0.0;    // max over time of |c_1| / max |psi_1(0)|
   double max_mass_drift = 0.0;  // max over time of |trapezoid(psi1 - psi2) - initial| / scale
   double westward_check = 0.0;  // projection on the sin pattern after a quarter period (formula)
   double westward_model = 0.0;
@@ -126,15 +126,15 @@ ModeResult run_mode(const ModeCase& c) {
     tprev = s.t;
     r.max_wall_psi = std::max(r.max_wall_psi, std::abs(s.wall_psi[0]) / amp);
     if (c.layers > 1) {
-      r.max_mass_drift = std::max(
-          r.max_mass_drift, std::abs(trapezoid_integral(g, s.psi[0] - s.psi[1]) - mass0) /
-                                mass_scale);
+      r.max_mass_drift =
+          std::max(r.max_mass_drift,
+                   std::abs(trapezoid_integral(g, s.psi[0] - s.psi[1]) - mass0) / mass_scale);
     }
   }
   EXPECT_EQ(static_cast<int>(crossings.size()), wanted);
   // Successive zero crossings are half a period apart.
-  r.period = 2.0 * (crossings.back() - crossings.front()) /
-             static_cast<double>(crossings.size() - 1);
+  r.period =
+      2.0 * (crossings.back() - crossings.front()) / static_cast<double>(crossings.size() - 1);
   return r;
 }
 
@@ -143,10 +143,11 @@ TEST(ValidationBasinModes, GravestModePeriodMatchesPedlosky1987) {
   // AB3's phase error is (3/8) (w dt)^3 ~ 1e-6 at dt = 7200 s, far below the spatial error.
   const ModeResult coarse = run_mode({32, 1, 1, 1, 0.0, 7200.0});
   const ModeResult fine = run_mode({64, 1, 1, 1, 0.0, 7200.0});
-  std::printf("basin mode (1,1): period %.4f d vs formula %.4f d; rel error 32^2 %.3e, 64^2 %.3e; "
-              "quarter-period projection / formula %.4f\n",
-              fine.period / 86400.0, fine.period_formula / 86400.0, coarse.rel_error(),
-              fine.rel_error(), fine.westward_model / fine.westward_check);
+  std::printf(
+      "basin mode (1,1): period %.4f d vs formula %.4f d; rel error 32^2 %.3e, 64^2 %.3e; "
+      "quarter-period projection / formula %.4f\n",
+      fine.period / 86400.0, fine.period_formula / 86400.0, coarse.rel_error(), fine.rel_error(),
+      fine.westward_model / fine.westward_check);
   // Pedlosky (1987), Rossby normal modes of a closed basin: within 1 % at 32^2 and 0.3 % at 64^2,
   // and falling with resolution (second order: about 4x per halving of dx; require 3x).
   EXPECT_LT(std::abs(coarse.rel_error()), 1e-2) << "Pedlosky (1987) basin-mode period, 32^2";
@@ -188,9 +189,10 @@ TEST(ValidationBasinModes, MassConstraintShiftsTheOddMode) {
   const ModeResult& even = even_mode_64();
   const ModeResult odd = run_mode({64, 1, 1, 2, kLd, 14400.0});
   const ModeResult odd_coarse = run_mode({32, 1, 1, 2, kLd, 14400.0});
-  std::printf("baroclinic mode (1,1): rel period error %.3e (even mode %.3e), max |c1|/amp %.3f, "
-              "mass drift %.1e\n",
-              odd.rel_error(), even.rel_error(), odd.max_wall_psi, odd.max_mass_drift);
+  std::printf(
+      "baroclinic mode (1,1): rel period error %.3e (even mode %.3e), max |c1|/amp %.3f, "
+      "mass drift %.1e\n",
+      odd.rel_error(), even.rel_error(), odd.max_wall_psi, odd.max_mass_drift);
   // Mass constraint (from memory: LaCasce 2000; Cessi and Primeau 2001): with n odd the
   // measured frequency leaves the unconstrained formula by clearly more (> 4x) than the even
   // mode's discretisation error on the same grid...

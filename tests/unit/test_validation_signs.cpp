@@ -117,10 +117,11 @@ TEST(ValidationSigns, TendencyTermsHaveThePublishedSigns) {
     p.wind.tau0 = 0.1;
     const Model m(g, p);
     m.tendency(m.rest_state(), out);
-    EXPECT_LT(rel_err(g, out[0], [&](int, int j) {
-                return -0.1 * (kPi / g.ly_m) * std::sin(kPi * g.y(j) / g.ly_m) /
-                       (p.rho0 * 1000.0);
-              }),
+    EXPECT_LT(rel_err(g, out[0],
+                      [&](int, int j) {
+                        return -0.1 * (kPi / g.ly_m) * std::sin(kPi * g.y(j) / g.ly_m) /
+                               (p.rho0 * 1000.0);
+                      }),
               1e-12);
     EXPECT_EQ(out[1].abs().maxCoeff(), 0.0) << "wind reaches the lower layer";
   }
@@ -159,8 +160,7 @@ TEST(ValidationSigns, TendencyTermsHaveThePublishedSigns) {
     const Model m(g, p);
     m.tendency(m.state_from_psi({su.psi()}), out);
     const Field psi = su.psi();
-    EXPECT_LT(rel_err(g, out[0], [&](int i, int j) { return 1000.0 * k2 * k2 * psi(i, j); }),
-              0.02);
+    EXPECT_LT(rel_err(g, out[0], [&](int i, int j) { return 1000.0 * k2 * k2 * psi(i, j); }), 0.02);
   }
   {
     ModelParams p = su.params(1);
@@ -168,8 +168,7 @@ TEST(ValidationSigns, TendencyTermsHaveThePublishedSigns) {
     const Model m(g, p);
     m.tendency(m.state_from_psi({su.psi()}), out);
     const Field psi = su.psi();
-    EXPECT_LT(rel_err(g, out[0],
-                      [&](int i, int j) { return 1e11 * k2 * k2 * k2 * psi(i, j); }),
+    EXPECT_LT(rel_err(g, out[0], [&](int i, int j) { return 1e11 * k2 * k2 * k2 * psi(i, j); }),
               0.03);
   }
 }

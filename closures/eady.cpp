@@ -50,8 +50,9 @@ class EadyClosure final : public Closure {
     const int ni = setup_.interfaces();
     const std::span<Field> kj = interface_k(s, scratch);
     double kmax = 0.0;
-    for (const Field& k : kj)
+    for (const Field& k : kj) {
       kmax = std::max(kmax, k.block(1, 1, setup_.nx - 1, setup_.ny - 1).maxCoeff());
+    }
     Field& kx = scratch.get(kFaceX, setup_.nx, setup_.ny + 1);
     Field& ky = scratch.get(kFaceY, setup_.nx + 1, setup_.ny);
     if (target_ == Target::stretching) {

@@ -586,34 +586,28 @@ void energy_conversion(const Setup& s, std::span<const Field> psi, const Fluxes&
 #pragma omp parallel for schedule(static) if (parallel(s))
   for (int j = 1; j < ny; ++j) {
     double* c = col(cx, j);
+#pragma omp simd
+    for (int i = 1; i < nx - 1; ++i) c[i] = 0.0;
     for (int k = 0; k < n; ++k) {
       const double* p = col(psi[uz(k)], j);
       const double* fk = col(applied.fx[uz(k)], j);
       const double hx = s.h(k) * ix;
-      if (k == 0) {
 #pragma omp simd
-        for (int i = 1; i < nx - 1; ++i) c[i] = hx * fk[i] * (p[i + 1] - p[i]);
-      } else {
-#pragma omp simd
-        for (int i = 1; i < nx - 1; ++i) c[i] += hx * fk[i] * (p[i + 1] - p[i]);
-      }
+      for (int i = 1; i < nx - 1; ++i) c[i] += hx * fk[i] * (p[i + 1] - p[i]);
     }
   }
 #pragma omp parallel for schedule(static) if (parallel(s))
   for (int j = 1; j < ny - 1; ++j) {
     double* c = col(cy, j);
+#pragma omp simd
+    for (int i = 1; i < nx; ++i) c[i] = 0.0;
     for (int k = 0; k < n; ++k) {
       const double* p0 = col(psi[uz(k)], j);
       const double* p1 = col(psi[uz(k)], j + 1);
       const double* fk = col(applied.fy[uz(k)], j);
       const double hy = s.h(k) * iy;
-      if (k == 0) {
 #pragma omp simd
-        for (int i = 1; i < nx; ++i) c[i] = hy * fk[i] * (p1[i] - p0[i]);
-      } else {
-#pragma omp simd
-        for (int i = 1; i < nx; ++i) c[i] += hy * fk[i] * (p1[i] - p0[i]);
-      }
+      for (int i = 1; i < nx; ++i) c[i] += hy * fk[i] * (p1[i] - p0[i]);
     }
   }
   // Each interior node takes half of each of its four faces.
@@ -631,8 +625,15 @@ void energy_conversion(const Setup& s, std::span<const Field> psi, const Fluxes&
 
 void shear_sum(const Setup& s, std::span<const Field> psi, Field& out, Field& work) {
   if (out.rows() != s.nx + 1 || out.cols() != s.ny + 1) out = s.nodes();
-  out.setZero();
-  for (int j = 0; j < s.interfaces(); ++j) {
+  if (s.interfaces() == 0) {
+    out.setZero();
+    return;
+  }
+  // The first interface straight into `out`, the others through `work`.
+  shear_speed(s, psi, 0, out);
+  out *= s.f0 * std::sqrt(s.h_interface(0) / s.gprime(0));
+  zero_border(out);
+  for (int j = 1; j < s.interfaces(); ++j) {
     shear_speed(s, psi, j, work);
     const double w = s.f0 * std::sqrt(s.h_interface(j) / s.gprime(j));
     for (int jj = 1; jj < s.ny; ++jj) {
@@ -656,17 +657,20 @@ void step_eddy_energy(const Setup& s, std::span<const Field> psi, std::span<cons
   // (i+1/2, j+1/2), i = 0..nx-1, j = 0..ny-1, the mean of the four nodes around; the ring of
   // corners next to the walls stays 0, which closes the walls of the interior control volumes.
   Field& pb = scratch.get(first_slot, nx + 1, ny + 1);
-  for (int k = 0; k < n; ++k) {
-    const double w = s.h(k) / s.total_depth();
-    const double c = wall_psi[uz(k)];
-    const double* p = psi[uz(k)].data();
+  {
+    std::vector<const double*> p(uz(n));
+    std::vector<double> w(uz(n));
+    std::vector<double> c(uz(n));
+    for (int k = 0; k < n; ++k) {
+      p[uz(k)] = psi[uz(k)].data();
+      w[uz(k)] = s.h(k) / s.total_depth();
+      c[uz(k)] = wall_psi[uz(k)];
+    }
     double* o = pb.data();
-    if (k == 0) {
-#pragma omp simd
-      for (Eigen::Index m = 0; m < pb.size(); ++m) o[m] = w * (p[m] - c);
-    } else {
-#pragma omp simd
-      for (Eigen::Index m = 0; m < pb.size(); ++m) o[m] += w * (p[m] - c);
+    for (Eigen::Index m = 0; m < pb.size(); ++m) {
+      double v = 0.0;
+      for (std::size_t k = 0; k < p.size(); ++k) v += w[k] * (p[k][m] - c[k]);
+      o[m] = v;
     }
   }
   Field& pc = scratch.get(first_slot + 1, nx, ny);

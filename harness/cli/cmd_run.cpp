@@ -87,7 +87,7 @@ std::vector<ExtraField> closure_output(const ClosureHost& host, const Model& mod
         break;
       case closure::Placement::column:
         for (int k = 0; k < model.n_layers(); ++k) {
-          e.per_layer.push_back(m.values.front() * (host.setup().h(k) / depth));
+          e.per_layer.emplace_back(m.values.front() * (host.setup().h(k) / depth));
         }
         e.long_name +=
             " (a column total apportioned to the layers by thickness: the sum over "

@@ -273,7 +273,7 @@ std::vector<ClosureMeanField> ClosureHost::mean_fields() const {
       ClosureMeanField m;
       m.info = f;
       for (int c = 0; c < closure::count_of(f.placement, setup_); ++c) {
-        m.values.push_back(sums[at++] * inv);
+        m.values.emplace_back(sums[at++] * inv);
       }
       out.push_back(std::move(m));
     }
@@ -283,7 +283,7 @@ std::vector<ClosureMeanField> ClosureHost::mean_fields() const {
   ClosureMeanField t;
   t.info = {"closure_pv_tendency", "s-2", "PV tendency of the closure, -div F",
             closure::Placement::layer};
-  for (const Field& f : mean_tendency_) t.values.push_back(f * inv);
+  for (const Field& f : mean_tendency_) t.values.emplace_back(f * inv);
   out.push_back(std::move(t));
   return out;
 }

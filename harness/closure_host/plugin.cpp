@@ -258,7 +258,7 @@ std::string load_closure_plugin(const std::filesystem::path& file) {
              std::to_string(sizeof(plateau_closure_api)),
          "a table built from this plateau's closures/plugin_abi.h");
   }
-  const std::string name = text_of(api->name);
+  std::string name = text_of(api->name);
   if (!name_ok(name)) {
     fail("declares the closure name '" + name + "'", "letters, digits, '_' and '-'");
   }

@@ -60,6 +60,11 @@ void add_check_command(CLI::App& app, Invocation& invocation);
 void add_run_command(CLI::App& app, Invocation& invocation);
 // plateau closures                          (cmd_closures.cpp)
 void add_closures_command(CLI::App& app, Invocation& invocation);
+// plateau truth CASE                        (cmd_truth.cpp)
+void add_truth_command(CLI::App& app, Invocation& invocation);
+// plateau score CASE -c NAME, plateau compare CASE   (cmd_score.cpp)
+void add_score_command(CLI::App& app, Invocation& invocation);
+void add_compare_command(CLI::App& app, Invocation& invocation);
 
 struct CheckOptions {
   std::filesystem::path case_path;

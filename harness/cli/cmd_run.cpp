@@ -38,6 +38,7 @@
 #include "harness/run/run.hpp"
 #include "harness/run/run_output.hpp"
 #include "harness/run/setup.hpp"
+#include "harness/study/evaluate.hpp"
 #include "plateau/version.hpp"
 
 namespace plateau::cli {
@@ -55,49 +56,6 @@ struct RunCommandOptions {
   std::vector<std::string> sets;               // --set NAME.KEY=VALUE
   std::vector<std::filesystem::path> plugins;  // --plugin FILE
 };
-
-// NetCDF names the run output already uses; a closure field of the same name gets a prefix.
-bool reserved_name(const std::string& n) {
-  constexpr std::string_view kNames =
-      " x y layer interface time series_time layer_thickness reduced_gravity psi q psi_wall"
-      " barotropic_streamfunction psi_snapshot q_snapshot series_t kinetic_energy"
-      " potential_energy total_energy wind_work bottom_drag_work lateral_friction_work"
-      " advection_work closure_work ";
-  return kNames.find(" " + n + " ") != std::string_view::npos;
-}
-
-// The host's time means as NetCDF fields. A depth-integrated (column) field is apportioned to
-// the layers by thickness, so that its sum over the layers is the column value.
-std::vector<ExtraField> closure_output(const ClosureHost& host, const Model& model) {
-  std::vector<ExtraField> out;
-  const double depth = host.setup().total_depth();
-  for (const ClosureMeanField& m : host.mean_fields()) {
-    ExtraField e;
-    e.name = reserved_name(m.info.name) ? "closure_" + m.info.name : m.info.name;
-    e.units = m.info.units;
-    e.long_name = "time-mean " + m.info.long_name;
-    switch (m.info.placement) {
-      case closure::Placement::layer:
-        e.per_layer = m.values;
-        break;
-      case closure::Placement::interface:
-        if (model.n_layers() < 2) continue;
-        e.per_layer = m.values;
-        e.on_interfaces = true;
-        break;
-      case closure::Placement::column:
-        for (int k = 0; k < model.n_layers(); ++k) {
-          e.per_layer.emplace_back(m.values.front() * (host.setup().h(k) / depth));
-        }
-        e.long_name +=
-            " (a column total apportioned to the layers by thickness: the sum over "
-            "layers is the column value)";
-        break;
-    }
-    out.push_back(std::move(e));
-  }
-  return out;
-}
 
 RunSchedule schedule_of(const Case& c) {
   RunSchedule s;

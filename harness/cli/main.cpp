@@ -45,6 +45,9 @@ int run_cli(int argc, char** argv) {
   add_check_command(app, invocation);
   add_run_command(app, invocation);
   add_closures_command(app, invocation);
+  add_truth_command(app, invocation);
+  add_score_command(app, invocation);
+  add_compare_command(app, invocation);
 
   try {
     app.parse(argc, argv);

@@ -57,7 +57,8 @@ BudgetTerms terms_from(const std::vector<double>& v, std::size_t at = 0) {
 struct LoopState {
   ModelState state;
   RunRecord record;
-  BudgetTerms last_terms;  // budget at the previous step (trapezoid in time)
+  BudgetTerms last_terms;  // budget at the previous evaluation (trapezoid in time)
+  std::int64_t last_terms_step = 0;
   bool have_last_terms = false;
 };
 
@@ -85,6 +86,7 @@ void write_checkpoint(const LoopState& ls, const RunOptions& opt, int n) {
   w.add("budget_integral", terms_vec(r.budget_integral));
   w.add("last_terms", terms_vec(ls.last_terms));
   w.add("have_last_terms", static_cast<std::int64_t>(ls.have_last_terms ? 1 : 0));
+  w.add("last_terms_step", ls.last_terms_step);
   w.add("snapshot_t", r.snapshot_t);
   for (std::size_t m = 0; m < r.snapshot_t.size(); ++m) {
     add_fields(w, "snap" + std::to_string(m) + "_psi", r.snapshot_psi[m]);
@@ -102,6 +104,7 @@ void write_checkpoint(const LoopState& ls, const RunOptions& opt, int n) {
   }
   w.add("series", series);
   (void)n;
+  if (opt.hook != nullptr) opt.hook->save(w, "hook_");
   w.commit(opt.checkpoint);
 }
 
@@ -134,6 +137,7 @@ void read_checkpoint(LoopState& ls, const RunOptions& opt, const Model& model) {
   rec.budget_integral = terms_from(r.get_doubles("budget_integral"));
   ls.last_terms = terms_from(r.get_doubles("last_terms"));
   ls.have_last_terms = r.get_int("have_last_terms") != 0;
+  ls.last_terms_step = r.get_int("last_terms_step");
   rec.snapshot_t = r.get_doubles("snapshot_t");
   rec.snapshot_psi.clear();
   rec.snapshot_q.clear();
@@ -160,6 +164,7 @@ void read_checkpoint(LoopState& ls, const RunOptions& opt, const Model& model) {
     x.closure = series[p];
     rec.series.push_back(std::move(x));
   }
+  if (opt.hook != nullptr) opt.hook->load(r, "hook_");
 }
 
 // The first layer and node where the flow breaks the CFL limit or is not finite.
@@ -187,6 +192,28 @@ void check_health(const Model& model, const ModelState& s, double limit) {
 
 }  // namespace
 
+void HookChain::after_dynamics(ModelState& state) {
+  for (BudgetHook* h : hooks_) h->after_dynamics(state);
+}
+void HookChain::after_step(const ModelState& state) {
+  for (BudgetHook* h : hooks_) h->after_step(state);
+}
+double HookChain::last_energy_tendency() const {
+  double sum = 0.0;
+  for (const BudgetHook* h : hooks_) sum += h->last_energy_tendency();
+  return sum;
+}
+void HookChain::save(io::CheckpointWriter& w, const std::string& prefix) const {
+  for (std::size_t i = 0; i < hooks_.size(); ++i) {
+    hooks_[i]->save(w, prefix + "hook" + std::to_string(i) + "_");
+  }
+}
+void HookChain::load(const io::CheckpointReader& r, const std::string& prefix) {
+  for (std::size_t i = 0; i < hooks_.size(); ++i) {
+    hooks_[i]->load(r, prefix + "hook" + std::to_string(i) + "_");
+  }
+}
+
 double RunRecord::budget_residual() const {
   return (energy_window_end - energy_window_start) - budget_integral.sum() - closure_integral;
 }
@@ -209,6 +236,8 @@ RunRecord run_model(Model& model, const RunSchedule& schedule, const RunOptions&
       schedule.checkpoint_interval_s > 0
           ? std::max<std::int64_t>(1, steps_for(schedule.checkpoint_interval_s, dt))
           : 0;
+
+  const std::int64_t budget_every = std::max(1, schedule.budget_every);
 
   LoopState ls;
   bool resumed = false;
@@ -265,23 +294,30 @@ RunRecord run_model(Model& model, const RunSchedule& schedule, const RunOptions&
   while (s.step < total) {
     model.step(s, options.hook);
     check_health(model, s, schedule.cfl_limit);
+    if (options.hook != nullptr) options.hook->after_step(s);
     const bool in_window = s.step > spinup;
     const bool series_now = s.step % series_every == 0 || s.step == total;
     const double closure_power =
         options.hook != nullptr ? options.hook->last_energy_tendency() : 0.0;
-    if (in_window || series_now || s.step == spinup) {
+    // The closure's fractional step is forward Euler at the step's start, so its power counts
+    // once per step.
+    if (in_window) rec.closure_integral += dt * closure_power;
+    const bool budget_now = (in_window && (s.step - spinup) % budget_every == 0) ||
+                            s.step == total || series_now || s.step == spinup;
+    if (budget_now) {
       const BudgetTerms b = model.budget(s);
       if (in_window) {
-        // Trapezoid in time between the step's two ends; the closure's fractional step is
-        // forward Euler at the step's start, so its power counts once per step.
-        rec.budget_integral.wind += 0.5 * dt * (ls.last_terms.wind + b.wind);
-        rec.budget_integral.bottom_drag += 0.5 * dt * (ls.last_terms.bottom_drag + b.bottom_drag);
+        // Trapezoid in time between this evaluation and the previous one (the window's start
+        // is always one, so the integral covers the window exactly).
+        const double h = dt * static_cast<double>(s.step - ls.last_terms_step);
+        rec.budget_integral.wind += 0.5 * h * (ls.last_terms.wind + b.wind);
+        rec.budget_integral.bottom_drag += 0.5 * h * (ls.last_terms.bottom_drag + b.bottom_drag);
         rec.budget_integral.lateral_friction +=
-            0.5 * dt * (ls.last_terms.lateral_friction + b.lateral_friction);
-        rec.budget_integral.advection += 0.5 * dt * (ls.last_terms.advection + b.advection);
-        rec.closure_integral += dt * closure_power;
+            0.5 * h * (ls.last_terms.lateral_friction + b.lateral_friction);
+        rec.budget_integral.advection += 0.5 * h * (ls.last_terms.advection + b.advection);
       }
       ls.last_terms = b;
+      ls.last_terms_step = s.step;
       if (series_now) sample_series(b, closure_power);
     }
     if (s.step == spinup) {

@@ -16,6 +16,7 @@
 #include <string>
 #include <vector>
 
+#include "harness/io/checkpoint.hpp"
 #include "harness/model/model.hpp"
 
 namespace plateau {
@@ -39,6 +40,10 @@ struct RunSchedule {
   double series_interval_s = 0.0;      // 0: every step
   double checkpoint_interval_s = 0.0;  // 0: none until the end
   double cfl_limit = 0.5;
+  // The budget terms are evaluated every this many steps inside the averaging window (and at
+  // every series sample) and integrated in time with the trapezoid rule between evaluations.
+  // 1 is exact to the scheme's order; a truth run uses a few to save about a step's cost.
+  int budget_every = 1;
 };
 
 struct Progress {
@@ -48,10 +53,33 @@ struct Progress {
   double wall_s = 0.0;  // since this process started the run
 };
 
-// Extra energy tendency a hook applied in its last call (m^5 s^-3), for the budget.
+// A hook that acts after each dynamics step (a closure) or only watches (an accumulator of
+// truth statistics). It reports the energy tendency it applied in its last call (m^5 s^-3, for
+// the budget) and keeps whatever state it carries across steps in the run's checkpoint, so a
+// resumed run is bit for bit identical to an uninterrupted one.
 class BudgetHook : public StepHook {
  public:
   [[nodiscard]] virtual double last_energy_tendency() const = 0;
+  // Called by run_model after every step's inversion, with the step's end state.
+  virtual void after_step(const ModelState& /*state*/) {}
+  // Blob names must start with `prefix`.
+  virtual void save(io::CheckpointWriter& /*w*/, const std::string& /*prefix*/) const {}
+  virtual void load(const io::CheckpointReader& /*r*/, const std::string& /*prefix*/) {}
+};
+
+// Several hooks in order (a closure, then an accumulator). The energy tendency is the sum;
+// checkpoint blobs of hook i are prefixed "hook<i>_".
+class HookChain final : public BudgetHook {
+ public:
+  explicit HookChain(std::vector<BudgetHook*> hooks) : hooks_(std::move(hooks)) {}
+  void after_dynamics(ModelState& state) override;
+  void after_step(const ModelState& state) override;
+  [[nodiscard]] double last_energy_tendency() const override;
+  void save(io::CheckpointWriter& w, const std::string& prefix) const override;
+  void load(const io::CheckpointReader& r, const std::string& prefix) override;
+
+ private:
+  std::vector<BudgetHook*> hooks_;
 };
 
 struct RunOptions {

@@ -1,0 +1,345 @@
+// plateau score CASE -c NAME and plateau compare CASE: the truth (cached), the coarse run of
+// each closure, and its scorecard; compare ranks several side by side. Coarse runs go into
+// --out DIR (default results/CASE-NAME/ or results/CASE-compare/) as run-NAME.nc with
+// score-NAME.json beside them, and compare.json for a comparison.
+//
+// compare runs its closures on a pool of --threads workers, each run single-threaded: every
+// run is deterministic, so the scorecards are the same bits whatever the worker count.
+
+#include <algorithm>
+#include <atomic>
+#include <chrono>
+#include <cmath>
+#include <cstdio>
+#include <iomanip>
+#include <iostream>
+#include <memory>
+#include <mutex>
+#include <optional>
+#include <sstream>
+#include <string>
+#include <thread>
+#include <vector>
+#include <omp.h>
+
+#include <CLI/CLI.hpp>
+#include <nlohmann/json.hpp>
+
+#include "harness/cli/progress.hpp"
+#include "harness/cli/truth_options.hpp"
+#include "harness/closure_host/plugin.hpp"
+#include "harness/io/atomic_file.hpp"
+#include "harness/study/evaluate.hpp"
+#include "plateau/version.hpp"
+
+namespace plateau::cli {
+namespace {
+
+namespace fs = std::filesystem;
+
+struct ScoreCommandOptions {
+  fs::path case_path;
+  std::vector<std::string> closures;  // -c (score: exactly one; compare: a list, or the case's)
+  std::vector<std::string> sets;
+  std::vector<fs::path> plugins;
+  fs::path out;
+  fs::path json;
+  CacheChoice cache;
+  bool fresh = false;  // --fresh: ignore coarse-run checkpoints
+};
+
+std::string history_of(const char* command, const ScoreCommandOptions& o) {
+  std::ostringstream h;
+  h << "plateau " << command << " " << o.case_path.string();
+  if (!o.closures.empty()) {
+    h << " -c ";
+    for (std::size_t i = 0; i < o.closures.size(); ++i) h << (i ? "," : "") << o.closures[i];
+  }
+  for (const auto& p : o.plugins) h << " --plugin " << p.string();
+  for (const auto& s : o.sets) h << " --set " << s;
+  return h.str();
+}
+
+std::string fmt(std::optional<double> v, int precision = 3) {
+  if (!v || !std::isfinite(*v)) return "-";
+  std::ostringstream s;
+  s << std::fixed << std::setprecision(precision) << *v;
+  return s.str();
+}
+
+struct Outcome {
+  std::string label;
+  std::optional<Evaluation> eval;
+  std::string failure;  // a run that failed numerically
+};
+
+void write_json(const fs::path& path, const nlohmann::json& j) {
+  io::write_text_atomic(path, j.dump(2) + "\n");
+}
+
+nlohmann::json ranking_json(const std::vector<const Outcome*>& ranked) {
+  nlohmann::json r = nlohmann::json::array();
+  int rank = 0;
+  for (const Outcome* o : ranked) {
+    nlohmann::json e;
+    e["closure"] = o->label;
+    if (o->eval) {
+      e["rank"] = ++rank;
+      e["overall"] = o->eval->card.overall();
+      for (Category cat : kCategories) {
+        const auto s = o->eval->card.category_skill(cat);
+        e["categories"][category_name(cat)] = s ? nlohmann::json(*s) : nlohmann::json(nullptr);
+      }
+      e["coarse_wall_s"] = o->eval->wall_s;
+    } else {
+      e["failed"] = o->failure;
+    }
+    r.push_back(std::move(e));
+  }
+  return r;
+}
+
+void print_ranking(std::ostream& out, const std::vector<const Outcome*>& ranked,
+                   double truth_wall_s) {
+  std::size_t w = 7;
+  for (const Outcome* o : ranked) w = std::max(w, o->label.size());
+  out << "  rank  " << std::left << std::setw(static_cast<int>(w)) << "closure" << std::right
+      << "  overall  plateau  transport  energy  a_priori  run_s   cost\n";
+  int rank = 0;
+  for (const Outcome* o : ranked) {
+    out << "  " << std::setw(4);
+    if (!o->eval) {
+      out << "-"
+          << "  " << std::left << std::setw(static_cast<int>(w)) << o->label << std::right
+          << "  failed: " << o->failure << '\n';
+      continue;
+    }
+    const Scorecard& c = o->eval->card;
+    out << ++rank << "  " << std::left << std::setw(static_cast<int>(w)) << o->label << std::right
+        << std::setw(9) << fmt(c.overall()) << std::setw(9)
+        << fmt(c.category_skill(Category::plateau)) << std::setw(11)
+        << fmt(c.category_skill(Category::transport)) << std::setw(8)
+        << fmt(c.category_skill(Category::energy)) << std::setw(10)
+        << fmt(c.category_skill(Category::a_priori)) << std::setw(7) << fmt(o->eval->wall_s, 1)
+        << std::setw(7)
+        << (truth_wall_s > 0 ? fmt(o->eval->wall_s / truth_wall_s, 3) : std::string("-")) << '\n';
+  }
+}
+
+// Metrics a modeller reads first, per closure, beside the truth.
+void print_headline(std::ostream& out, const std::vector<const Outcome*>& ranked) {
+  const Outcome* first = nullptr;
+  for (const Outcome* o : ranked) {
+    if (o->eval) {
+      first = o;
+      break;
+    }
+  }
+  if (first == nullptr) return;
+  std::vector<std::string> ids;
+  for (const Metric& m : first->eval->card.metrics) {
+    const bool headline =
+        (m.id.find(".homogeneity") != std::string::npos && m.id.rfind("plateau.", 0) == 0) ||
+        m.id == "transport.barotropic.max_sv" || m.id == "transport.barotropic.min_sv" ||
+        m.id == "energy.total";
+    if (headline) ids.push_back(m.id);
+  }
+  if (ids.empty()) return;
+  out << "\n  headline metrics (truth | each closure)\n";
+  for (const std::string& id : ids) {
+    const Metric* t = first->eval->card.find(id);
+    out << "  " << std::left << std::setw(42) << id << std::right << std::setw(11)
+        << fmt(t ? t->truth : std::nullopt, 4) << " |";
+    for (const Outcome* o : ranked) {
+      if (!o->eval) continue;
+      const Metric* m = o->eval->card.find(id);
+      out << "  " << o->label << " " << fmt(m ? m->candidate : std::nullopt, 4);
+    }
+    out << "  " << (t ? t->unit : "") << '\n';
+  }
+}
+
+int run_scoring(const char* command, const ScoreCommandOptions& o, const GlobalOptions& global,
+                bool compare) {
+  for (const auto& p : o.plugins) (void)load_closure_plugin(p);
+  const Case c = load_case(o.case_path);
+  std::vector<std::string> names = o.closures;
+  if (compare && names.empty()) {
+    for (const ClosureChoice& k : c.closures) {
+      if (k.compared) names.push_back(k.name);
+    }
+    if (names.empty()) {
+      throw CaseError(o.case_path.string() +
+                      ": [compare] closures lists no closure; list some there or pass -c a,b,c");
+    }
+  }
+  std::vector<Candidate> candidates;
+  for (const std::string& n : names) candidates.push_back(make_candidate(c, n, o.sets));
+
+  const fs::path out =
+      o.out.empty() ? fs::path("results") / (c.name + "-" + (compare ? "compare" : names.front()))
+                    : o.out;
+  install_stop_handlers();
+  TruthResult truth;
+  try {
+    truth = case_truth(c, o.cache, global);
+  } catch (const NumericalFailure& e) {
+    print_error(std::cerr, std::string("the truth run failed: ") + e.what());
+    return kExitNumerical;
+  } catch (const RunInterrupted& e) {
+    std::cerr << "\nplateau: interrupted: " << e.what() << "\nplateau: continue with: plateau "
+              << command << " " << o.case_path.string() << '\n';
+    return kExitInterrupted;
+  }
+  if (!global.quiet) std::cerr << "plateau: truth " << truth_summary(truth) << '\n';
+
+  // Candidates on a pool of workers, results kept in the order given.
+  std::vector<Outcome> outcomes(candidates.size());
+  std::atomic<std::size_t> next{0};
+  std::atomic<bool> interrupted{false};
+  std::mutex print_mutex;
+  std::size_t done = 0;
+  const std::size_t workers =
+      std::min<std::size_t>(candidates.size(), static_cast<std::size_t>(thread_count(global)));
+  const auto t0 = std::chrono::steady_clock::now();
+  auto work = [&]() {
+    omp_set_num_threads(1);
+    for (std::size_t i = next++; i < candidates.size(); i = next++) {
+      Outcome& r = outcomes[i];
+      r.label = candidates[i].label;
+      EvaluationOptions eo;
+      eo.out_dir = out;
+      eo.resume = !o.fresh;
+      eo.history = history_of(command, o);
+      eo.stop_flag = &stop_flag();
+      if (!compare) eo.progress = progress_printer("run " + r.label, global.quiet);
+      try {
+        r.eval = evaluate(c, truth.data, candidates[i], eo);
+        write_json(out / ("score-" + file_label(r.label) + ".json"),
+                   scorecard_to_json(r.eval->card));
+      } catch (const NumericalFailure& e) {
+        r.failure = e.what();
+      } catch (const RunInterrupted&) {
+        interrupted = true;
+      }
+      const std::lock_guard<std::mutex> lock(print_mutex);
+      ++done;
+      if (compare && !global.quiet) {
+        const double wall =
+            std::chrono::duration<double>(std::chrono::steady_clock::now() - t0).count();
+        std::cerr << "plateau: compare " << done << "/" << candidates.size() << " " << r.label
+                  << (r.eval ? " overall " + fmt(r.eval->card.overall()) : " failed") << " ("
+                  << fmt(wall, 1) << " s)\n";
+      }
+    }
+  };
+  std::vector<std::thread> pool;
+  for (std::size_t w = 1; w < workers; ++w) pool.emplace_back(work);
+  work();
+  for (std::thread& t : pool) t.join();
+  if (interrupted) {
+    std::cerr << "\nplateau: interrupted; the coarse runs' checkpoints are in "
+              << (out / "checkpoints").string() << "\nplateau: continue with: plateau " << command
+              << " " << o.case_path.string() << (o.out.empty() ? "" : " --out " + o.out.string())
+              << '\n';
+    return kExitInterrupted;
+  }
+
+  std::vector<const Outcome*> ranked;
+  for (const Outcome& r : outcomes) ranked.push_back(&r);
+  std::stable_sort(ranked.begin(), ranked.end(), [](const Outcome* a, const Outcome* b) {
+    if (a->eval.has_value() != b->eval.has_value()) return a->eval.has_value();
+    if (!a->eval) return false;
+    return a->eval->card.overall() > b->eval->card.overall();
+  });
+  bool failed = false;
+  for (const Outcome& r : outcomes) failed = failed || !r.eval;
+
+  nlohmann::json j;
+  if (compare) {
+    j["case"] = c.name;
+    j["truth"] = {{"key", truth.data.key},
+                  {"entry", truth.entry.string()},
+                  {"reused", truth.reused},
+                  {"wall_s", truth.data.wall_s}};
+    j["ranking"] = ranking_json(ranked);
+    for (const Outcome& r : outcomes) {
+      if (r.eval) j["scorecards"][r.label] = scorecard_to_json(r.eval->card);
+    }
+    write_json(out / "compare.json", j);
+  } else if (outcomes.front().eval) {
+    j = scorecard_to_json(outcomes.front().eval->card);
+  }
+  if (!o.json.empty() && !j.is_null()) write_json(o.json, j);
+
+  if (!global.quiet) {
+    if (!compare && outcomes.front().eval) {
+      print_scorecard(std::cout, outcomes.front().eval->card);
+    } else if (compare) {
+      std::cout << "compare " << c.name << ": " << outcomes.size()
+                << " closures against the truth, ranked by overall skill\n";
+      print_ranking(std::cout, ranked, truth.data.wall_s);
+      print_headline(std::cout, ranked);
+    }
+    std::cout << "\n  truth   " << truth_summary(truth) << "\n          " << truth.entry.string()
+              << '\n';
+    for (const Outcome& r : outcomes) {
+      if (r.eval) {
+        std::cout << "  wrote   " << r.eval->netcdf.string() << ", "
+                  << (out / ("score-" + file_label(r.label) + ".json")).string() << '\n';
+      } else {
+        std::cout << "  failed  " << r.label << ": " << r.failure << '\n';
+      }
+    }
+    if (compare) std::cout << "  wrote   " << (out / "compare.json").string() << '\n';
+    if (!o.json.empty()) std::cout << "  wrote   " << o.json.string() << '\n';
+  }
+  if (!compare && !outcomes.front().eval) {
+    print_error(std::cerr, outcomes.front().failure);
+    return kExitNumerical;
+  }
+  return failed ? kExitNumerical : kExitOk;
+}
+
+void add_common(CLI::App* cmd, ScoreCommandOptions& o) {
+  cmd->add_option("case", o.case_path, "case file (TOML)")->required()->check(CLI::ExistingFile);
+  cmd->add_option("--set", o.sets,
+                  "override a closure parameter: NAME.KEY=VALUE (closure.KEY=VALUE: every "
+                  "closure run; repeatable)");
+  cmd->add_option("--plugin", o.plugins, "load an external closure (shared library)")
+      ->check(CLI::ExistingFile);
+  cmd->add_option("--out", o.out, "results folder");
+  cmd->add_option("--json", o.json, "also write the result as JSON to FILE");
+  cmd->add_flag("--fresh", o.fresh, "start the coarse runs afresh instead of from checkpoints");
+  add_cache_options(*cmd, o.cache);
+}
+
+}  // namespace
+
+void add_score_command(CLI::App& app, Invocation& invocation) {
+  auto opts = std::make_shared<ScoreCommandOptions>();
+  CLI::App* cmd =
+      app.add_subcommand("score", "truth (cached) + coarse run with a closure + its scorecard");
+  add_common(cmd, *opts);
+  cmd->add_option("-c,--closure", opts->closures, "the closure to score")->required();
+  cmd->callback([opts, &invocation]() {
+    if (opts->closures.size() != 1) {
+      throw CaseError("score takes one closure (-c NAME); use compare for several");
+    }
+    invocation.exit_code = run_scoring("score", *opts, invocation.global, false);
+  });
+}
+
+void add_compare_command(CLI::App& app, Invocation& invocation) {
+  auto opts = std::make_shared<ScoreCommandOptions>();
+  CLI::App* cmd = app.add_subcommand(
+      "compare", "score every closure the case lists (or -c a,b,c), ranked side by side");
+  add_common(cmd, *opts);
+  cmd->add_option("-c,--closures", opts->closures, "closures to compare (comma-separated)")
+      ->delimiter(',');
+  cmd->callback([opts, &invocation]() {
+    invocation.exit_code = run_scoring("compare", *opts, invocation.global, true);
+  });
+}
+
+}  // namespace plateau::cli

@@ -1,0 +1,38 @@
+#pragma once
+// What truth, score and compare share: the cache options, the truth with its messages, and
+// the interrupt flag that turns Ctrl-C into a checkpoint.
+
+#include <atomic>
+#include <filesystem>
+#include <string>
+
+#include "harness/case/case.hpp"
+#include "harness/cli/cli.hpp"
+#include "harness/truth/truth.hpp"
+
+namespace CLI {
+class App;
+}
+
+namespace plateau::cli {
+
+struct CacheChoice {
+  std::filesystem::path cache;  // --cache DIR
+  bool force = false;           // --force
+};
+
+// Adds --cache and --force to a command.
+void add_cache_options(CLI::App& cmd, CacheChoice& choice);
+
+// Ctrl-C and SIGTERM set this; runs checkpoint and stop (exit code 130).
+const std::atomic<bool>& stop_flag();
+void install_stop_handlers();
+inline constexpr int kExitInterrupted = 130;
+
+// The truth of the case from the cache (or computed now), with progress and notices on stderr.
+TruthResult case_truth(const Case& c, const CacheChoice& choice, const GlobalOptions& global);
+
+// One line about where the truth came from.
+std::string truth_summary(const TruthResult& t);
+
+}  // namespace plateau::cli

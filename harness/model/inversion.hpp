@@ -43,7 +43,7 @@ class Inversion {
   std::vector<Field> homogeneous_;              // h_m on every node (mode 0 unused)
   std::vector<double> homogeneous_mass_;        // trapezoid integral of h_m
   mutable std::vector<FftwBuffer> work_;        // one transform buffer per mode
-  mutable std::vector<Field> modal_;            // phi_m on every node
+  mutable std::vector<double> row_sums_;        // per mode and interior row: sum of phi^0
 
   void solve_mode(int m, double* buffer) const;  // in place: rhs in, phi^0 out (interior)
 };

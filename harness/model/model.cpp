@@ -9,6 +9,28 @@ namespace {
 
 std::size_t uz(int k) { return static_cast<std::size_t>(k); }
 
+// Row j of a field: node (i, j) is col(f, j)[i]. The hot loops below run on these plain
+// pointers, row by row (x fastest in memory).
+const double* col(const Field& f, int j) {
+  return f.data() + static_cast<Eigen::Index>(j) * f.rows();
+}
+double* col(Field& f, int j) { return f.data() + static_cast<Eigen::Index>(j) * f.rows(); }
+
+// The 5-point Laplacian of f on the interior nodes of row j (as laplacian() in operators.cpp,
+// the same expression, so the same rounding).
+void laplacian_row(const Grid& g, const Field& f, int j, Field& out) {
+  const double ax = 1.0 / (g.dx * g.dx);
+  const double ay = 1.0 / (g.dy * g.dy);
+  const double* fs = col(f, j - 1);
+  const double* fc = col(f, j);
+  const double* fn = col(f, j + 1);
+  double* o = col(out, j);
+#pragma omp simd
+  for (int i = 1; i < g.nx; ++i) {
+    o[i] = ax * (fc[i + 1] - 2.0 * fc[i] + fc[i - 1]) + ay * (fn[i] - 2.0 * fc[i] + fs[i]);
+  }
+}
+
 }  // namespace
 
 double Energy::total() const {
@@ -100,7 +122,17 @@ void Model::diagnose(ModelState& s) const {
   inversion_.invert(s.q, s.mode_mass, s.psi, s.wall_psi);
   if (s.zeta.size() != uz(n)) s.zeta.assign(uz(n), grid_.zeros());
   for (int k = 0; k < n; ++k) {
-    laplacian(grid_, s.psi[uz(k)], s.zeta[uz(k)]);
+    Field& z = s.zeta[uz(k)];
+    if (z.rows() != grid_.nx + 1 || z.cols() != grid_.ny + 1) z = grid_.zeros();
+  }
+  // zeta = lap(psi) inside, all layers in one parallel loop over (layer, row).
+  const int rows = grid_.ny - 1;
+#pragma omp parallel for schedule(static) if (threaded(grid_))
+  for (int r = 0; r < n * rows; ++r) {
+    const int k = r / rows;
+    laplacian_row(grid_, s.psi[uz(k)], 1 + r % rows, s.zeta[uz(k)]);
+  }
+  for (int k = 0; k < n; ++k) {
     wall_vorticity(grid_, s.psi[uz(k)], s.wall_psi[uz(k)], params_.wall, params_.slip_length_m,
                    s.zeta[uz(k)]);
   }
@@ -144,41 +176,119 @@ void Model::lateral_friction_into(const ModelState& s, int k, Field& out, double
 }
 
 void Model::tendency(const ModelState& s, std::vector<Field>& out) const {
+  prepare_tendency(out);
+#pragma omp parallel if (threaded(grid_))
+  tendency_sweep(s, out);
+}
+
+void Model::prepare_tendency(std::vector<Field>& out) const {
+  const int n = layers_.n;
+  if (out.size() != uz(n)) out.assign(uz(n), grid_.zeros());
+  for (auto& o : out) {
+    if (o.rows() != grid_.nx + 1 || o.cols() != grid_.ny + 1) o = grid_.zeros();
+  }
+}
+
+// The tendency's work-sharing loops over (layer, row), static blocks: called inside a parallel
+// region (or outside any, then on one thread). Each interior row of each layer is done in one
+// sweep while it is in cache: advection, then wind, bottom drag and lateral friction, with the
+// expressions of arakawa_jacobian, ddx_centred and lateral_friction_into in the same order.
+void Model::tendency_sweep(const ModelState& s, std::vector<Field>& out) const {
   const int n = layers_.n;
   const int nx = grid_.nx;
   const int ny = grid_.ny;
-  if (out.size() != uz(n)) out.assign(uz(n), grid_.zeros());
-  for (int k = 0; k < n; ++k) {
-    Field& o = out[uz(k)];
-    if (o.rows() != nx + 1 || o.cols() != ny + 1) o = grid_.zeros();
+  const int rows = ny - 1;
+  const double ax = 1.0 / (grid_.dx * grid_.dx);
+  const double ay = 1.0 / (grid_.dy * grid_.dy);
+  const double cj = 1.0 / (12.0 * grid_.dx * grid_.dy);
+  const double cx = 1.0 / (2.0 * grid_.dx);
+  const double beta = params_.beta;
+  const double a2 = params_.a2;
+  const double a4 = params_.a4;
+  const double season = params_.wind.seasonal_factor(s.t);
+  if (a4 != 0.0) {
+    // lap(zeta) for the biharmonic term, with its wall condition lap(zeta) = 0 on the walls.
+#pragma omp for schedule(static)
+    for (int r = 0; r < n * rows; ++r) {
+      const int k = r / rows;
+      const int j = 1 + r % rows;
+      Field& lz = scratch_[uz(k)];
+      laplacian_row(grid_, s.zeta[uz(k)], j, lz);
+      double* l = col(lz, j);
+      l[0] = 0.0;
+      l[nx] = 0.0;
+      if (j == 1) lz.col(0).setZero();
+      if (j == ny - 1) lz.col(ny).setZero();
+    }
+  }
+#pragma omp for schedule(static)
+  for (int r = 0; r < n * rows; ++r) {
+    const int k = r / rows;
+    const int j = 1 + r % rows;
+    double* o = col(out[uz(k)], j);
     const Field& psi = s.psi[uz(k)];
     switch (params_.advection) {
-      case Advection::arakawa:
-        arakawa_jacobian(grid_, psi, s.q[uz(k)], o);
-        break;
-      case Advection::linear: {
-        ddx_centred(grid_, psi, o);
-        const double b = params_.beta;
-#pragma omp parallel for schedule(static) if (threaded(grid_))
-        for (int j = 1; j < ny; ++j) {
-          for (int i = 1; i < nx; ++i) o(i, j) *= b;
+      case Advection::arakawa: {
+        const double* as = col(psi, j - 1);
+        const double* ac = col(psi, j);
+        const double* an = col(psi, j + 1);
+        const Field& q = s.q[uz(k)];
+        const double* bs = col(q, j - 1);
+        const double* bc = col(q, j);
+        const double* bn = col(q, j + 1);
+#pragma omp simd
+        for (int i = 1; i < nx; ++i) {
+          const double a_e = ac[i + 1], a_w = ac[i - 1], a_n = an[i], a_s = as[i];
+          const double a_ne = an[i + 1], a_nw = an[i - 1];
+          const double a_se = as[i + 1], a_sw = as[i - 1];
+          const double b_e = bc[i + 1], b_w = bc[i - 1], b_n = bn[i], b_s = bs[i];
+          const double b_ne = bn[i + 1], b_nw = bn[i - 1];
+          const double b_se = bs[i + 1], b_sw = bs[i - 1];
+          const double jpp = (a_e - a_w) * (b_n - b_s) - (a_n - a_s) * (b_e - b_w);
+          const double jpx =
+              a_e * (b_ne - b_se) - a_w * (b_nw - b_sw) - a_n * (b_ne - b_nw) + a_s * (b_se - b_sw);
+          const double jxp =
+              b_n * (a_ne - a_nw) - b_s * (a_se - a_sw) - b_e * (a_ne - a_se) + b_w * (a_nw - a_sw);
+          o[i] = cj * (jpp + jpx + jxp);
         }
         break;
       }
+      case Advection::linear: {
+        const double* ac = col(psi, j);
+#pragma omp simd
+        for (int i = 1; i < nx; ++i) o[i] = (cx * (ac[i + 1] - ac[i - 1])) * beta;
+        break;
+      }
       case Advection::off:
-        o.setZero();
+        for (int i = 1; i < nx; ++i) o[i] = 0.0;
         break;
     }
     const double drag = (k == n - 1) ? params_.bottom_drag : 0.0;
-    const Field& z = s.zeta[uz(k)];
-    const double season = params_.wind.seasonal_factor(s.t);
-    const bool top = (k == 0);
-#pragma omp parallel for schedule(static) if (threaded(grid_))
-    for (int j = 1; j < ny; ++j) {
-      const double w = top ? wind_curl_[uz(j)] * season : 0.0;
-      for (int i = 1; i < nx; ++i) o(i, j) = -o(i, j) + w - drag * z(i, j);
+    const double w = (k == 0) ? wind_curl_[uz(j)] * season : 0.0;
+    const Field& zeta = s.zeta[uz(k)];
+    const double* zs = col(zeta, j - 1);
+    const double* zc = col(zeta, j);
+    const double* zn = col(zeta, j + 1);
+#pragma omp simd
+    for (int i = 1; i < nx; ++i) o[i] = -o[i] + w - drag * zc[i];
+    if (a2 != 0.0) {
+#pragma omp simd
+      for (int i = 1; i < nx; ++i) {
+        o[i] +=
+            a2 * (ax * (zc[i + 1] - 2.0 * zc[i] + zc[i - 1]) + ay * (zn[i] - 2.0 * zc[i] + zs[i]));
+      }
     }
-    lateral_friction_into(s, k, o, 1.0);
+    if (a4 != 0.0) {
+      const Field& lz = scratch_[uz(k)];
+      const double* ls = col(lz, j - 1);
+      const double* lc = col(lz, j);
+      const double* ln = col(lz, j + 1);
+#pragma omp simd
+      for (int i = 1; i < nx; ++i) {
+        o[i] -=
+            a4 * (ax * (lc[i + 1] - 2.0 * lc[i] + lc[i - 1]) + ay * (ln[i] - 2.0 * lc[i] + ls[i]));
+      }
+    }
   }
 }
 
@@ -271,7 +381,7 @@ void Model::step(ModelState& s, StepHook* hook) {
   const int n = layers_.n;
   const int nx = grid_.nx;
   const int ny = grid_.ny;
-  tendency(s, tend_);
+  prepare_tendency(tend_);
   if (s.tend_prev1.size() != uz(n)) s.tend_prev1.assign(uz(n), grid_.zeros());
   if (s.tend_prev2.size() != uz(n)) s.tend_prev2.assign(uz(n), grid_.zeros());
   const double dt = params_.dt;
@@ -286,16 +396,22 @@ void Model::step(ModelState& s, StepHook* hook) {
     c1 = -16.0 / 12.0;
     c2 = 5.0 / 12.0;
   }
-  for (int k = 0; k < n; ++k) {
-    Field& q = s.q[uz(k)];
-    const Field& f0 = tend_[uz(k)];
-    const Field& f1 = s.tend_prev1[uz(k)];
-    const Field& f2 = s.tend_prev2[uz(k)];
-#pragma omp parallel for schedule(static) if (threaded(grid_))
-    for (int j = 1; j < ny; ++j) {
-      for (int i = 1; i < nx; ++i) {
-        q(i, j) += dt * (c0 * f0(i, j) + c1 * f1(i, j) + c2 * f2(i, j));
-      }
+  // One parallel region for the tendency and the update (the update of a row may only start
+  // once every tendency row has been computed from the old q: the loop's barrier).
+  const int rows = ny - 1;
+#pragma omp parallel if (threaded(grid_))
+  {
+    tendency_sweep(s, tend_);
+#pragma omp for schedule(static)
+    for (int r = 0; r < n * rows; ++r) {
+      const int k = r / rows;
+      const int j = 1 + r % rows;
+      double* q = col(s.q[uz(k)], j);
+      const double* f0 = col(tend_[uz(k)], j);
+      const double* f1 = col(s.tend_prev1[uz(k)], j);
+      const double* f2 = col(s.tend_prev2[uz(k)], j);
+#pragma omp simd
+      for (int i = 1; i < nx; ++i) q[i] += dt * (c0 * f0[i] + c1 * f1[i] + c2 * f2[i]);
     }
   }
   // Rotate the memory without copying: prev2 <- prev1 <- current.

@@ -135,6 +135,10 @@ class Model {
   mutable std::vector<Field> tend_;     // the current tendency
 
   void wall_q(ModelState& s) const;
+  // tendency() in parts: sizing of out (outside any parallel region), then the work-sharing
+  // loops, which bind to the caller's parallel region (step() shares one with the update).
+  void prepare_tendency(std::vector<Field>& out) const;
+  void tendency_sweep(const ModelState& s, std::vector<Field>& out) const;
   void lateral_friction_into(const ModelState& s, int k, Field& out, double weight) const;
 };
 

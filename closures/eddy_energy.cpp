@@ -129,8 +129,7 @@ class EddyEnergyClosure final : public Closure {
     const double lo = k_min_;
     const double hi = k_max_;
     const double alpha = alpha_;
-#pragma omp parallel for schedule(static) if (kit::parallel(setup_))
-    for (int j = 1; j < ny; ++j) {
+    kit::for_rows(kit::parallel(setup_), 1, ny, [&](int j) {
       const double* ej = e.data() + j * rows;
       const double* sj = sigma.data() + j * rows;
       double* kj = k.data() + j * rows;
@@ -139,7 +138,7 @@ class EddyEnergyClosure final : public Closure {
         const double v = alpha * ej[i] / std::max(sj[i], floor);
         kj[i] = std::min(std::max(v, lo), hi);
       }
-    }
+    });
     return k.block(1, 1, nx - 1, ny - 1).maxCoeff();
   }
 

@@ -6,6 +6,7 @@
 #include <limits>
 #include <numbers>
 #include <stdexcept>
+#include <omp.h>
 
 namespace plateau::closure::kit {
 namespace {
@@ -14,8 +15,8 @@ namespace {
 std::atomic<long> g_min_parallel_nodes{96L * 96L};
 
 // Plain loops over one grid row (j fixed, i contiguous in memory): Eigen's element access
-// checks bounds in this build (no NDEBUG), and deep expression templates are not inlined at
-// -O2, so the hot loops run on column pointers.
+// checks bounds unless NDEBUG is set (the sanitizer build), and deep expression templates are
+// not inlined at -O2, so the hot loops run on column pointers.
 const double* col(const Field& f, int j) {
   return f.data() + static_cast<Eigen::Index>(j) * f.rows();
 }
@@ -42,7 +43,8 @@ double taper_weight(double d, double width) {
 long min_parallel_nodes() { return g_min_parallel_nodes.load(); }
 void set_min_parallel_nodes(long nodes) { g_min_parallel_nodes.store(nodes); }
 bool parallel(const Setup& s) {
-  return static_cast<long>(s.nx + 1) * static_cast<long>(s.ny + 1) >= min_parallel_nodes();
+  return static_cast<long>(s.nx + 1) * static_cast<long>(s.ny + 1) >= min_parallel_nodes() &&
+         omp_get_max_threads() > 1;
 }
 
 double taper_width(const Setup& s, double requested_m) {
@@ -85,6 +87,30 @@ void stretching_pv(const Setup& s, std::span<const Field> psi, int k, Field& out
   for (Eigen::Index m = 0; m < size; ++m) o[m] = up * (a[m] - b[m]) - dn * (b[m] - c[m]);
 }
 
+namespace {
+
+// |d_j| on row jj of `out` (interior nodes), from the centred differences of psi_j - psi_{j+1}.
+void shear_row(const Field& a, const Field& b, double hx, double hy, int nx, int jj, Field& out) {
+  const double* a0 = col(a, jj);
+  const double* b0 = col(b, jj);
+  const double* as = col(a, jj - 1);
+  const double* bs = col(b, jj - 1);
+  const double* an = col(a, jj + 1);
+  const double* bn = col(b, jj + 1);
+  double* o = col(out, jj);
+#pragma omp simd
+  for (int i = 1; i < nx; ++i) {
+    const double gx = hx * ((a0[i + 1] - b0[i + 1]) - (a0[i - 1] - b0[i - 1]));
+    const double gy = hy * ((an[i] - bn[i]) - (as[i] - bs[i]));
+    o[i] = gx * gx + gy * gy;
+  }
+  // Eigen's packet square root (std::sqrt keeps errno and does not vectorise).
+  Eigen::Map<Eigen::ArrayXd> row(o + 1, nx - 1);
+  row = row.sqrt();
+}
+
+}  // namespace
+
 void shear_speed(const Setup& s, std::span<const Field> psi, int j, Field& out) {
   const Field& a = psi[uz(j)];
   const Field& b = psi[uz(j + 1)];
@@ -92,46 +118,34 @@ void shear_speed(const Setup& s, std::span<const Field> psi, int j, Field& out) 
   const double hy = 0.5 / s.dy;
   if (out.rows() != s.nx + 1 || out.cols() != s.ny + 1) out = s.nodes();
   const int nx = s.nx;
-  const int ny = s.ny;
-#pragma omp parallel for schedule(static) if (parallel(s))
-  for (int jj = 1; jj < ny; ++jj) {
-    const double* a0 = col(a, jj);
-    const double* b0 = col(b, jj);
-    const double* as = col(a, jj - 1);
-    const double* bs = col(b, jj - 1);
-    const double* an = col(a, jj + 1);
-    const double* bn = col(b, jj + 1);
-    double* o = col(out, jj);
-#pragma omp simd
-    for (int i = 1; i < nx; ++i) {
-      const double gx = hx * ((a0[i + 1] - b0[i + 1]) - (a0[i - 1] - b0[i - 1]));
-      const double gy = hy * ((an[i] - bn[i]) - (as[i] - bs[i]));
-      o[i] = gx * gx + gy * gy;
-    }
-    // Eigen's packet square root (std::sqrt keeps errno and does not vectorise).
-    Eigen::Map<Eigen::ArrayXd> row(o + 1, nx - 1);
-    row = row.sqrt();
-  }
+  for_rows(parallel(s), 1, s.ny, [&](int jj) { shear_row(a, b, hx, hy, nx, jj, out); });
 }
 
 double eady_diffusivity(const Setup& s, std::span<const Field> psi, int j, double alpha_l2,
                         double cap, Field& out) {
-  shear_speed(s, psi, j, out);
+  const Field& pa = psi[uz(j)];
+  const Field& pb = psi[uz(j + 1)];
+  const double hx = 0.5 / s.dx;
+  const double hy = 0.5 / s.dy;
+  if (out.rows() != s.nx + 1 || out.cols() != s.ny + 1) out = s.nodes();
   const double a = alpha_l2 * s.f0 / std::sqrt(s.gprime(j) * s.h_interface(j));
-  double kmax = 0.0;
   const int nx = s.nx;
   const int ny = s.ny;
-  // max is exact and order-free, so the reduction keeps the bits whatever the thread count.
-#pragma omp parallel for schedule(static) reduction(max : kmax) if (parallel(s))
-  for (int jj = 1; jj < ny; ++jj) {
+  // The shear and K row by row (one pass); the largest K of each row, then of the rows: max is
+  // exact and order-free, so the result keeps its bits whatever the thread count.
+  std::vector<double> row_max(uz(ny + 1), 0.0);
+  for_rows(parallel(s), 1, ny, [&](int jj) {
+    shear_row(pa, pb, hx, hy, nx, jj, out);
     double* o = col(out, jj);
 #pragma omp simd
     for (int i = 1; i < nx; ++i) {
       const double k = a * o[i];
       o[i] = cap < k ? cap : k;  // std::min(k, cap), as a value select
     }
-    kmax = std::max(kmax, Eigen::Map<const Eigen::ArrayXd>(o + 1, nx - 1).maxCoeff());
-  }
+    row_max[uz(jj)] = Eigen::Map<const Eigen::ArrayXd>(o + 1, nx - 1).maxCoeff();
+  });
+  double kmax = 0.0;
+  for (int jj = 1; jj < ny; ++jj) kmax = std::max(kmax, row_max[uz(jj)]);
   return kmax;
 }
 
@@ -173,14 +187,14 @@ double mixing_length(const Setup& s, MixingLength m, double fixed_m, double u_e)
 void to_faces(const Setup& s, const Field& nodes, const Taper* taper, Field& kx, Field& ky) {
   const int nx = s.nx;
   const int ny = s.ny;
+  const bool par = parallel(s);
   if (kx.rows() != nx || kx.cols() != ny + 1) kx = s.x_faces();
   if (ky.rows() != nx + 1 || ky.cols() != ny) ky = s.y_faces();
   zero_border(kx);
   zero_border(ky);
   const double* wxf = taper != nullptr ? taper->x_face.data() : nullptr;
   const double* wxn = taper != nullptr ? taper->x_node.data() : nullptr;
-#pragma omp parallel for schedule(static) if (parallel(s))
-  for (int j = 1; j < ny; ++j) {
+  for_rows(par, 1, ny, [&](int j) {
     const double* a = col(nodes, j);
     double* o = col(kx, j);
     if (taper != nullptr) {
@@ -191,9 +205,8 @@ void to_faces(const Setup& s, const Field& nodes, const Taper* taper, Field& kx,
 #pragma omp simd
       for (int i = 1; i < nx - 1; ++i) o[i] = 0.5 * (a[i] + a[i + 1]);
     }
-  }
-#pragma omp parallel for schedule(static) if (parallel(s))
-  for (int j = 1; j < ny - 1; ++j) {
+  });
+  for_rows(par, 1, ny - 1, [&](int j) {
     const double* a = col(nodes, j);
     const double* b = col(nodes, j + 1);
     double* o = col(ky, j);
@@ -205,38 +218,38 @@ void to_faces(const Setup& s, const Field& nodes, const Taper* taper, Field& kx,
 #pragma omp simd
       for (int i = 1; i < nx; ++i) o[i] = 0.5 * (a[i] + b[i]);
     }
-  }
+  });
 }
 
 void full_pv_flux(const Setup& s, const Field& q, const Field& kx, const Field& ky, Field& fx,
                   Field& fy) {
   const int nx = s.nx;
   const int ny = s.ny;
+  const bool par = parallel(s);
   const double ix = 1.0 / s.dx;
   const double iy = 1.0 / s.dy;
-#pragma omp parallel for schedule(static) if (parallel(s))
-  for (int j = 1; j < ny; ++j) {
+  for_rows(par, 1, ny, [&](int j) {
     const double* qc = col(q, j);
     const double* k = col(kx, j);
     double* o = col(fx, j);
 #pragma omp simd
     for (int i = 1; i < nx - 1; ++i) o[i] = -k[i] * (qc[i + 1] - qc[i]) * ix;
-  }
-#pragma omp parallel for schedule(static) if (parallel(s))
-  for (int j = 1; j < ny - 1; ++j) {
+  });
+  for_rows(par, 1, ny - 1, [&](int j) {
     const double* qc = col(q, j);
     const double* qn = col(q, j + 1);
     const double* k = col(ky, j);
     double* o = col(fy, j);
 #pragma omp simd
     for (int i = 1; i < nx; ++i) o[i] = -k[i] * (qn[i] - qc[i]) * iy;
-  }
+  });
 }
 
 void add_interface_flux(const Setup& s, std::span<const Field> psi, int jf, const Field& kx,
                         const Field& ky, Fluxes& out) {
   const int nx = s.nx;
   const int ny = s.ny;
+  const bool par = parallel(s);
   const double ix = 1.0 / s.dx;
   const double iy = 1.0 / s.dy;
   const double f2 = s.f0 * s.f0;
@@ -248,8 +261,7 @@ void add_interface_flux(const Setup& s, std::span<const Field> psi, int jf, cons
   Field& fxd = out.fx[uz(jf + 1)];
   Field& fyu = out.fy[uz(jf)];
   Field& fyd = out.fy[uz(jf + 1)];
-#pragma omp parallel for schedule(static) if (parallel(s))
-  for (int j = 1; j < ny; ++j) {
+  for_rows(par, 1, ny, [&](int j) {
     const double* a0 = col(a, j);
     const double* b0 = col(b, j);
     const double* k = col(kx, j);
@@ -261,9 +273,8 @@ void add_interface_flux(const Setup& s, std::span<const Field> psi, int jf, cons
       u[i] += up * w;
       d[i] -= dn * w;
     }
-  }
-#pragma omp parallel for schedule(static) if (parallel(s))
-  for (int j = 1; j < ny - 1; ++j) {
+  });
+  for_rows(par, 1, ny - 1, [&](int j) {
     const double* a0 = col(a, j);
     const double* b0 = col(b, j);
     const double* an = col(a, j + 1);
@@ -277,7 +288,7 @@ void add_interface_flux(const Setup& s, std::span<const Field> psi, int jf, cons
       u[i] += up * w;
       d[i] -= dn * w;
     }
-  }
+  });
 }
 
 void stretching_flux(const Setup& s, std::span<const Field> psi, std::span<const Field> kx,
@@ -332,14 +343,14 @@ void cauchy_schwarz_limit(const Setup& s, std::span<const Field> qt, const Field
   const int n = s.layers();
   const int nx = s.nx;
   const int ny = s.ny;
+  const bool par = parallel(s);
   const double cx = c_times_length / s.dx;
   const double cy = c_times_length / s.dy;
   Field& mfx = scratch.get(first_slot, nx, ny + 1);
   Field& mfy = scratch.get(first_slot + 1, nx + 1, ny);
   // Per row: each layer's factor, applied to that layer or (common) first reduced to the
   // smallest over the layers and applied to all.
-#pragma omp parallel for schedule(static) if (parallel(s))
-  for (int j = 1; j < ny; ++j) {
+  for_rows(par, 1, ny, [&](int j) {
     const double* u = col(ux, j);
     double* mr = col(mfx, j);
     for (int i = 1; i < nx - 1; ++i) mr[i] = 1.0;
@@ -363,15 +374,14 @@ void cauchy_schwarz_limit(const Setup& s, std::span<const Field> qt, const Field
         for (int i = 1; i < nx - 1; ++i) fk[i] *= mr[i];
       }
     }
-    if (!common) continue;
+    if (!common) return;
     for (int k = 0; k < n; ++k) {
       double* fk = col(f.fx[uz(k)], j);
 #pragma omp simd
       for (int i = 1; i < nx - 1; ++i) fk[i] *= mr[i];
     }
-  }
-#pragma omp parallel for schedule(static) if (parallel(s))
-  for (int j = 1; j < ny - 1; ++j) {
+  });
+  for_rows(par, 1, ny - 1, [&](int j) {
     const double* v = col(uy, j);
     double* mr = col(mfy, j);
     for (int i = 1; i < nx; ++i) mr[i] = 1.0;
@@ -395,13 +405,13 @@ void cauchy_schwarz_limit(const Setup& s, std::span<const Field> qt, const Field
         for (int i = 1; i < nx; ++i) fk[i] *= mr[i];
       }
     }
-    if (!common) continue;
+    if (!common) return;
     for (int k = 0; k < n; ++k) {
       double* fk = col(f.fy[uz(k)], j);
 #pragma omp simd
       for (int i = 1; i < nx; ++i) fk[i] *= mr[i];
     }
-  }
+  });
 }
 
 void cap_faces(const Setup& s, const Field& ux, const Field& uy, double c_times_length, Field& kx,
@@ -435,6 +445,7 @@ void zalesak_limit(const Setup& s, std::span<const Field> qt, double dt, bool co
   const int n = s.layers();
   const int nx = s.nx;
   const int ny = s.ny;
+  const bool par = parallel(s);
   const double ax = dt / s.dx;
   const double ay = dt / s.dy;
   // R+ and R- of every layer at the interior nodes (Zalesak 1979, eqs. 7-10, with a zero
@@ -454,8 +465,7 @@ void zalesak_limit(const Setup& s, std::span<const Field> qt, double dt, bool co
     const Field& fy = f.fy[uz(k)];
     Field& rp = *rps[uz(k)];
     Field& rm = *rms[uz(k)];
-#pragma omp parallel for schedule(static) if (parallel(s))
-    for (int j = 1; j < ny; ++j) {
+    for_rows(par, 1, ny, [&](int j) {
       const double* q0 = col(q, j);
       const double* qs = col(q, j > 1 ? j - 1 : j);
       const double* qn = col(q, j < ny - 1 ? j + 1 : j);
@@ -473,7 +483,7 @@ void zalesak_limit(const Setup& s, std::span<const Field> qt, double dt, bool co
                    m[1]);
       zalesak_node(q0[nx - 1], q0[nx - 2], q0[nx - 1], qs[nx - 1], qn[nx - 1], fxc[nx - 2],
                    fxc[nx - 1], fys[nx - 1], fyc[nx - 1], ax, ay, p[nx - 1], m[nx - 1]);
-    }
+    });
   }
   // Rows whose R+ and R- are all 1 in every layer need no correction (in most steps most
   // rows): a face is limited only if a node beside it is.
@@ -489,9 +499,8 @@ void zalesak_limit(const Setup& s, std::span<const Field> qt, double dt, bool co
   // Face coefficients: a positive flux raises the downstream node and lowers the upstream one.
   Field& cfx = scratch.get(first_slot + 2 * uz(n), nx, ny + 1);
   Field& cfy = scratch.get(first_slot + 2 * uz(n) + 1, nx + 1, ny);
-#pragma omp parallel for schedule(static) if (parallel(s))
-  for (int j = 1; j < ny; ++j) {
-    if (limited[uz(j)] == 0) continue;
+  for_rows(par, 1, ny, [&](int j) {
+    if (limited[uz(j)] == 0) return;
     double* cr = col(cfx, j);
     for (int i = 1; i < nx - 1; ++i) cr[i] = 1.0;
     for (int k = 0; k < n; ++k) {
@@ -520,16 +529,15 @@ void zalesak_limit(const Setup& s, std::span<const Field> qt, double dt, bool co
         for (int i = 1; i < nx - 1; ++i) fk[i] *= cr[i];
       }
     }
-    if (!common) continue;
+    if (!common) return;
     for (int k = 0; k < n; ++k) {
       double* fk = col(f.fx[uz(k)], j);
 #pragma omp simd
       for (int i = 1; i < nx - 1; ++i) fk[i] *= cr[i];
     }
-  }
-#pragma omp parallel for schedule(static) if (parallel(s))
-  for (int j = 1; j < ny - 1; ++j) {
-    if (limited[uz(j)] == 0 && limited[uz(j + 1)] == 0) continue;
+  });
+  for_rows(par, 1, ny - 1, [&](int j) {
+    if (limited[uz(j)] == 0 && limited[uz(j + 1)] == 0) return;
     double* cr = col(cfy, j);
     for (int i = 1; i < nx; ++i) cr[i] = 1.0;
     for (int k = 0; k < n; ++k) {
@@ -560,13 +568,13 @@ void zalesak_limit(const Setup& s, std::span<const Field> qt, double dt, bool co
         for (int i = 1; i < nx; ++i) fk[i] *= cr[i];
       }
     }
-    if (!common) continue;
+    if (!common) return;
     for (int k = 0; k < n; ++k) {
       double* fk = col(f.fy[uz(k)], j);
 #pragma omp simd
       for (int i = 1; i < nx; ++i) fk[i] *= cr[i];
     }
-  }
+  });
 }
 
 void energy_conversion(const Setup& s, std::span<const Field> psi, const Fluxes& applied,
@@ -574,6 +582,7 @@ void energy_conversion(const Setup& s, std::span<const Field> psi, const Fluxes&
   const int n = s.layers();
   const int nx = s.nx;
   const int ny = s.ny;
+  const bool par = parallel(s);
   const double ix = 1.0 / s.dx;
   const double iy = 1.0 / s.dy;
   if (out.rows() != nx + 1 || out.cols() != ny + 1) out = s.nodes();
@@ -583,8 +592,7 @@ void energy_conversion(const Setup& s, std::span<const Field> psi, const Fluxes&
   Field& cy = scratch.get(first_slot + 1, nx + 1, ny);
   zero_border(cx);
   zero_border(cy);
-#pragma omp parallel for schedule(static) if (parallel(s))
-  for (int j = 1; j < ny; ++j) {
+  for_rows(par, 1, ny, [&](int j) {
     double* c = col(cx, j);
 #pragma omp simd
     for (int i = 1; i < nx - 1; ++i) c[i] = 0.0;
@@ -595,9 +603,8 @@ void energy_conversion(const Setup& s, std::span<const Field> psi, const Fluxes&
 #pragma omp simd
       for (int i = 1; i < nx - 1; ++i) c[i] += hx * fk[i] * (p[i + 1] - p[i]);
     }
-  }
-#pragma omp parallel for schedule(static) if (parallel(s))
-  for (int j = 1; j < ny - 1; ++j) {
+  });
+  for_rows(par, 1, ny - 1, [&](int j) {
     double* c = col(cy, j);
 #pragma omp simd
     for (int i = 1; i < nx; ++i) c[i] = 0.0;
@@ -609,18 +616,17 @@ void energy_conversion(const Setup& s, std::span<const Field> psi, const Fluxes&
 #pragma omp simd
       for (int i = 1; i < nx; ++i) c[i] += hy * fk[i] * (p1[i] - p0[i]);
     }
-  }
+  });
   // Each interior node takes half of each of its four faces.
   zero_border(out);
-#pragma omp parallel for schedule(static) if (parallel(s))
-  for (int j = 1; j < ny; ++j) {
+  for_rows(par, 1, ny, [&](int j) {
     const double* c0 = col(cx, j);
     const double* cs = col(cy, j - 1);
     const double* cn = col(cy, j);
     double* o = col(out, j);
 #pragma omp simd
     for (int i = 1; i < nx; ++i) o[i] = 0.5 * ((c0[i - 1] + c0[i]) + (cs[i] + cn[i]));
-  }
+  });
 }
 
 void shear_sum(const Setup& s, std::span<const Field> psi, Field& out, Field& work) {
@@ -651,26 +657,24 @@ void step_eddy_energy(const Setup& s, std::span<const Field> psi, std::span<cons
   const int n = s.layers();
   const int nx = s.nx;
   const int ny = s.ny;
+  const bool par = parallel(s);
   const double ix = 1.0 / s.dx;
   const double iy = 1.0 / s.dy;
   // The barotropic streamfunction sum_k H_k (psi_k - c_k) / H at the nodes, then at the corners
   // (i+1/2, j+1/2), i = 0..nx-1, j = 0..ny-1, the mean of the four nodes around; the ring of
   // corners next to the walls stays 0, which closes the walls of the interior control volumes.
-  Field& pb = scratch.get(first_slot, nx + 1, ny + 1);
+  // Layer by layer over the whole array (the same sum per node, in the same order, vectorised).
+  Field& pb = scratch.get(first_slot, nx + 1, ny + 1, true);
   {
-    std::vector<const double*> p(uz(n));
-    std::vector<double> w(uz(n));
-    std::vector<double> c(uz(n));
-    for (int k = 0; k < n; ++k) {
-      p[uz(k)] = psi[uz(k)].data();
-      w[uz(k)] = s.h(k) / s.total_depth();
-      c[uz(k)] = wall_psi[uz(k)];
-    }
+    const double depth = s.total_depth();
     double* o = pb.data();
-    for (Eigen::Index m = 0; m < pb.size(); ++m) {
-      double v = 0.0;
-      for (std::size_t k = 0; k < p.size(); ++k) v += w[k] * (p[k][m] - c[k]);
-      o[m] = v;
+    const Eigen::Index size = pb.size();
+    for (int k = 0; k < n; ++k) {
+      const double* p = psi[uz(k)].data();
+      const double w = s.h(k) / depth;
+      const double c = wall_psi[uz(k)];
+#pragma omp simd
+      for (Eigen::Index m = 0; m < size; ++m) o[m] += w * (p[m] - c);
     }
   }
   Field& pc = scratch.get(first_slot + 1, nx, ny);
@@ -716,8 +720,7 @@ void step_eddy_energy(const Setup& s, std::span<const Field> psi, std::span<cons
   const double kx = rates.kappa_m2_per_s * ix;
   const double ky = rates.kappa_m2_per_s * iy;
   for (int m = 0; m < steps; ++m) {
-#pragma omp parallel for schedule(static) if (parallel(s))
-    for (int j = 1; j < ny; ++j) {
+    for_rows(par, 1, ny, [&](int j) {
       const double* uf = col(u, j);
       const double* ec = col(e, j);
       double* o = col(fx, j);
@@ -725,9 +728,8 @@ void step_eddy_energy(const Setup& s, std::span<const Field> psi, std::span<cons
       for (int i = 1; i < nx - 1; ++i) {
         o[i] = uf[i] * (uf[i] >= 0.0 ? ec[i] : ec[i + 1]) - kx * (ec[i + 1] - ec[i]);
       }
-    }
-#pragma omp parallel for schedule(static) if (parallel(s))
-    for (int j = 1; j < ny - 1; ++j) {
+    });
+    for_rows(par, 1, ny - 1, [&](int j) {
       const double* vf = col(v, j);
       const double* es = col(e, j);
       const double* en = col(e, j + 1);
@@ -736,9 +738,8 @@ void step_eddy_energy(const Setup& s, std::span<const Field> psi, std::span<cons
       for (int i = 1; i < nx; ++i) {
         o[i] = vf[i] * (vf[i] >= 0.0 ? es[i] : en[i]) - ky * (en[i] - es[i]);
       }
-    }
-#pragma omp parallel for schedule(static) if (parallel(s))
-    for (int j = 1; j < ny; ++j) {
+    });
+    for_rows(par, 1, ny, [&](int j) {
       const double* fxc = col(fx, j);
       const double* fyc = col(fy, j);
       const double* fys = col(fy, j - 1);
@@ -750,7 +751,7 @@ void step_eddy_energy(const Setup& s, std::span<const Field> psi, std::span<cons
         // Rounding (or a negative source of a non-stretching flux) must not leave E < 0.
         ec[i] = std::max(0.0, damp * ec[i] + h * (src[i] - div));
       }
-    }
+    });
   }
 }
 

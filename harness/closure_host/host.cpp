@@ -6,6 +6,7 @@
 #include <functional>
 #include <utility>
 
+#include "closures/flux_kit.hpp"
 #include "harness/case/case.hpp"
 
 namespace plateau {
@@ -13,8 +14,10 @@ namespace {
 
 std::size_t uz(int k) { return static_cast<std::size_t>(k); }
 
-// As the model's loops (grid.hpp, threaded()): smaller grids run faster on one thread.
-constexpr long kParallelNodes = 96L * 96L;
+// The closures' threshold (closure::kit::parallel: 96^2 nodes and more than one thread, as the
+// model's loops), so that a test that lowers it runs the host's threaded loops too.
+bool parallel(const closure::Setup& s) { return closure::kit::parallel(s); }
+using closure::kit::for_rows;
 
 // Row j of a field (i contiguous): the hot loops run on plain pointers (no bounds checks).
 const double* col(const Field& f, int j) {
@@ -124,14 +127,11 @@ void flux_divergence(const closure::Setup& s, const closure::Fluxes& f, std::vec
   const double ix = 1.0 / s.dx;
   const double iy = 1.0 / s.dy;
   const int nx = s.nx;
-  const int ny = s.ny;
-  const bool par = static_cast<long>(nx + 1) * (ny + 1) >= kParallelNodes;
   for (int k = 0; k < n; ++k) {
     const Field& fx = f.fx[uz(k)];
     const Field& fy = f.fy[uz(k)];
     Field& o = out[uz(k)];
-#pragma omp parallel for schedule(static) if (par)
-    for (int j = 1; j < ny; ++j) {
+    for_rows(parallel(s), 1, s.ny, [&](int j) {
       const double* fxc = col(fx, j);
       const double* fyc = col(fy, j);
       const double* fys = col(fy, j - 1);
@@ -140,7 +140,7 @@ void flux_divergence(const closure::Setup& s, const closure::Fluxes& f, std::vec
       for (int i = 1; i < nx; ++i) {
         oc[i] = -((fxc[i] - fxc[i - 1]) * ix + (fyc[i] - fys[i]) * iy);
       }
-    }
+    });
   }
 }
 
@@ -183,19 +183,29 @@ void ClosureHost::apply(ModelState& state) {
   if (closure_->target() == closure::Target::full_pv && options_.substepping) {
     steps = substeps_for(applied_.k_max, setup_, options_.substep_limit);
   }
-  const bool par = static_cast<long>(nx + 1) * (ny + 1) >= kParallelNodes;
+  const bool par = parallel(setup_);
   if (steps == 1) {
-    flux_divergence(setup_, applied_, tendency_);
+    // flux_divergence into tendency_ and the update of q in one pass (the same operations).
+    const double ix = 1.0 / setup_.dx;
+    const double iy = 1.0 / setup_.dy;
     for (int k = 0; k < n; ++k) {
       Field& q = state.q[uz(k)];
-      const Field& d = tendency_[uz(k)];
-#pragma omp parallel for schedule(static) if (par)
-      for (int j = 1; j < ny; ++j) {
+      Field& d = tendency_[uz(k)];
+      const Field& fx = applied_.fx[uz(k)];
+      const Field& fy = applied_.fy[uz(k)];
+      for_rows(par, 1, ny, [&](int j) {
+        const double* fxc = col(fx, j);
+        const double* fyc = col(fy, j);
+        const double* fys = col(fy, j - 1);
+        double* dc = col(d, j);
         double* qc = col(q, j);
-        const double* dc = col(d, j);
 #pragma omp simd
-        for (int i = 1; i < nx; ++i) qc[i] += dt * dc[i];
-      }
+        for (int i = 1; i < nx; ++i) {
+          const double t = -((fxc[i] - fxc[i - 1]) * ix + (fyc[i] - fys[i]) * iy);
+          dc[i] = t;
+          qc[i] += dt * t;
+        }
+      });
     }
   } else {
     // Each sub-step sees the q its predecessor left; the applied flux is their time mean.
@@ -213,8 +223,7 @@ void ClosureHost::apply(ModelState& state) {
         Field& q = state.q[uz(k)];
         const Field& d = divergence_[uz(k)];
         Field& t = tendency_[uz(k)];
-#pragma omp parallel for schedule(static) if (par)
-        for (int j = 1; j < ny; ++j) {
+        for_rows(par, 1, ny, [&](int j) {
           double* qc = col(q, j);
           double* tc = col(t, j);
           const double* dc = col(d, j);
@@ -223,7 +232,7 @@ void ClosureHost::apply(ModelState& state) {
             qc[i] += h * dc[i];
             tc[i] += w * dc[i];
           }
-        }
+        });
         applied_.fx[uz(k)] += w * work_.fx[uz(k)];
         applied_.fy[uz(k)] += w * work_.fy[uz(k)];
       }

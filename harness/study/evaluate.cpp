@@ -123,6 +123,7 @@ std::vector<BudgetFields> candidate_budget(const Model& coarse, const RunRecord&
   }
   const std::vector<Field> friction = friction_tendency(coarse, rec.mean_psi);
   std::vector<BudgetFields> out;
+  out.reserve(uz(n));
   for (int k = 0; k < n; ++k) {
     // div F_eddy = what the run resolves of the transient flux + the closure's flux divergence
     // (its tendency is -div F).
@@ -194,7 +195,7 @@ std::string file_label(const std::string& label) {
   return s;
 }
 
-Evaluation evaluate(const Case& c, const TruthData& truth, const Candidate& k,
+Evaluation evaluate(const Case& c, const TruthData& truth, const Candidate& candidate,
                     const EvaluationOptions& o) {
   Model model = make_coarse_model(c);
   const double dt = model.params().dt;
@@ -202,15 +203,15 @@ Evaluation evaluate(const Case& c, const TruthData& truth, const Candidate& k,
   HostOptions ho;
   ho.means_after_step = spinup;
   ho.means_every = std::max<std::int64_t>(1, std::llround(c.run.series_interval_s / dt));
-  ClosureHost host(model, make_closure(*k.info, k.params, make_setup(model)), ho);
+  ClosureHost host(model, make_closure(*candidate.info, candidate.params, make_setup(model)), ho);
   EddyStatisticsOptions so;
   so.start_after_step = spinup;
   so.sample_every = std::max<std::int64_t>(1, std::llround(kStatisticsIntervalS / dt));
   EddyStatisticsHook stats(model, model, so);
   HookChain chain({&host, &stats});
 
-  const std::string param_text = canonical_text(*k.info, k.params);
-  const std::string stem = "run-" + file_label(k.label);
+  const std::string param_text = canonical_text(*candidate.info, candidate.params);
+  const std::string stem = "run-" + file_label(candidate.label);
   RunOptions ro;
   ro.hook = &chain;
   ro.progress = o.progress;
@@ -220,7 +221,7 @@ Evaluation evaluate(const Case& c, const TruthData& truth, const Candidate& k,
     ro.checkpoint_key = io::sha256_hex(
         "coarse\n" + truth_key_text(c) + "coarse " + format_real(c.coarse.dt_s) + " " +
         format_real(c.coarse.viscosity_m2_per_s) + " " + format_real(c.coarse.biharmonic_m4_per_s) +
-        "\n" + k.info->name + "\n" + param_text + "\n");
+        "\n" + candidate.info->name + "\n" + param_text + "\n");
     ro.resume = o.resume;
   }
   RunSchedule schedule = case_schedule(c);
@@ -234,7 +235,7 @@ Evaluation evaluate(const Case& c, const TruthData& truth, const Candidate& k,
   if (!o.out_dir.empty()) {
     ev.netcdf = o.out_dir / (stem + ".nc");
     write_run_netcdf(rec, model, ev.netcdf,
-                     {"plateau coarse run of case " + c.name + " with closure " + k.label,
+                     {"plateau coarse run of case " + c.name + " with closure " + candidate.label,
                       o.history + " (closure parameters: " +
                           (param_text.empty() ? std::string("none") : param_text) + ")",
                       std::string("plateau ") + kProjectVersion + ", model " + kModelHash},
@@ -244,7 +245,7 @@ Evaluation evaluate(const Case& c, const TruthData& truth, const Candidate& k,
 
   ScoreInput in;
   in.case_name = c.name;
-  in.closure = k.label;
+  in.closure = candidate.label;
   in.options = score_options(c);
   in.truth = truth_score_run(truth.record, model);
   in.truth.pv_budget = truth_budget(truth);

@@ -76,8 +76,9 @@ class EntryLock {
     fd_ = ::open(p.c_str(), O_RDWR | O_CREAT | O_CLOEXEC, 0644);
     if (fd_ < 0) throw io::IoError(p, "cannot open the truth cache lock " + p.string());
     if (::flock(fd_, LOCK_EX | LOCK_NB) != 0) {
-      if (notice)
+      if (notice) {
         notice("another process is computing this truth; waiting for its lock " + p.string());
+      }
       if (::flock(fd_, LOCK_EX) != 0) {
         ::close(fd_);
         throw io::IoError(p, "cannot lock " + p.string());
@@ -107,7 +108,7 @@ std::vector<double> stack(const std::vector<Field>& fs) {
 
 std::vector<Field> unstack(const io::NetcdfArray& a, const Grid& g, int n, const fs::path& file,
                            const std::string& var) {
-  const std::size_t per = static_cast<std::size_t>((g.nx + 1) * (g.ny + 1));
+  const std::size_t per = static_cast<std::size_t>(g.nx + 1) * static_cast<std::size_t>(g.ny + 1);
   if (a.values.size() != per * uz(n)) {
     throw TruthCacheError(file.string() + ": variable " + var + " has " +
                           std::to_string(a.values.size()) + " values, expected " +
@@ -443,8 +444,9 @@ TruthData compute_truth(const Case& c, const std::string& key, const fs::path& e
   ro.progress = o.progress;
   ro.stop_flag = o.stop_flag;
   ro.stop_after_step = o.stop_after_step;
-  if (resumed && o.notice)
+  if (resumed && o.notice) {
     o.notice("resuming the interrupted truth from " + ro.checkpoint.string());
+  }
 
   const auto t0 = std::chrono::steady_clock::now();
   const RunRecord rec = run_model(model, run_schedule, ro);

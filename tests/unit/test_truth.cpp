@@ -60,9 +60,7 @@ bool same_truth(const TruthData& a, const TruthData& b) {
          a.record.series.back().total == b.record.series.back().total;
 }
 
-Case tiny_case() {
-  return load_case(fs::path(PLATEAU_SOURCE_DIR) / "cases" / "tiny_2layer.toml");
-}
+Case tiny_case() { return load_case(fs::path(PLATEAU_SOURCE_DIR) / "cases" / "tiny_2layer.toml"); }
 
 // ---- eddy statistics ------------------------------------------------------------------------
 

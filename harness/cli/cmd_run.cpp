@@ -117,17 +117,6 @@ int run_run(const RunCommandOptions& o, const GlobalOptions& global) {
   if (o.resume && !std::filesystem::exists(ckpt) && !global.quiet) {
     print_warning(std::cerr, "no checkpoint at " + ckpt.string() + ": starting from rest");
   }
-  if (o.resume && std::filesystem::exists(ckpt)) {
-    // The run loop's checkpoint holds the model state only (see the closure host's notes).
-    if (!host.prognostic().empty()) {
-      print_warning(std::cerr, "closure " + o.closure +
-                                   " has prognostic fields that the checkpoint does not hold: "
-                                   "they restart from their initial values, so the resumed run "
-                                   "differs from an uninterrupted one");
-    } else if (!global.quiet && !host.closure().diagnostic_fields().empty()) {
-      print_warning(std::cerr, "the closure's time-mean fields cover the resumed part only");
-    }
-  }
   std::signal(SIGINT, on_stop_signal);
   std::signal(SIGTERM, on_stop_signal);
 

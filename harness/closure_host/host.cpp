@@ -8,6 +8,7 @@
 
 #include "closures/flux_kit.hpp"
 #include "harness/case/case.hpp"
+#include "harness/io/error.hpp"
 
 namespace plateau {
 namespace {
@@ -255,6 +256,89 @@ void ClosureHost::apply(ModelState& state) {
     if (mean_now) {
       for (std::size_t m = 0; m < prognostic_.size(); ++m) mean_prognostic_[m] += prognostic_[m];
     }
+  }
+}
+
+namespace {
+
+std::span<const double> span_of(const Field& f) {
+  return {f.data(), static_cast<std::size_t>(f.size())};
+}
+
+void save_fields(io::CheckpointWriter& w, const std::string& name, const std::vector<Field>& fs) {
+  w.add(name + "count", static_cast<std::int64_t>(fs.size()));
+  for (std::size_t k = 0; k < fs.size(); ++k) w.add(name + std::to_string(k), span_of(fs[k]));
+}
+
+// Reads fields saved by save_fields into `fs`, which must already have the expected count and
+// shapes (the same closure on the same grid); anything else is an IoError naming the blob.
+void load_fields(const io::CheckpointReader& r, const std::string& name, std::vector<Field>& fs) {
+  const std::int64_t count = r.get_int(name + "count");
+  if (count != static_cast<std::int64_t>(fs.size())) {
+    throw io::IoError(r.path(), "checkpoint " + r.path().string() + ": '" + name + "' holds " +
+                                    std::to_string(count) + " closure fields, expected " +
+                                    std::to_string(fs.size()));
+  }
+  for (std::size_t k = 0; k < fs.size(); ++k) {
+    const std::string blob = name + std::to_string(k);
+    const std::vector<double> v = r.get_doubles(blob);
+    if (v.size() != static_cast<std::size_t>(fs[k].size())) {
+      throw io::IoError(r.path(), "checkpoint " + r.path().string() + ": blob '" + blob + "' has " +
+                                      std::to_string(v.size()) + " values, expected " +
+                                      std::to_string(fs[k].size()));
+    }
+    std::copy(v.begin(), v.end(), fs[k].data());
+  }
+}
+
+// The closure's prognostic and diagnostic field names, "prog1,prog2;diag1": identifies the
+// closure's checkpoint layout.
+std::string field_names(const std::vector<closure::FieldInfo>& prognostic,
+                        const std::vector<closure::FieldInfo>& diagnostic) {
+  std::string s;
+  for (const closure::FieldInfo& f : prognostic) s += (s.empty() ? "" : ",") + f.name;
+  s += ";";
+  for (const closure::FieldInfo& f : diagnostic) s += f.name + ",";
+  return s;
+}
+
+}  // namespace
+
+void ClosureHost::save(io::CheckpointWriter& w, const std::string& prefix) const {
+  w.add(prefix + "fields", field_names(prognostic_info_, diagnostic_info_));
+  save_fields(w, prefix + "prognostic", prognostic_);
+  w.add(prefix + "max_substeps", static_cast<std::int64_t>(max_substeps_));
+  w.add(prefix + "last_substeps", static_cast<std::int64_t>(last_substeps_));
+  const std::vector<double> energy = {energy_tendency_};
+  w.add(prefix + "energy_tendency", energy);
+  w.add(prefix + "mean_count", mean_count_);
+  if (mean_count_ > 0) {
+    save_fields(w, prefix + "mean_prognostic", mean_prognostic_);
+    save_fields(w, prefix + "mean_diagnostics", mean_diagnostics_);
+    save_fields(w, prefix + "mean_tendency", mean_tendency_);
+  }
+}
+
+void ClosureHost::load(const io::CheckpointReader& r, const std::string& prefix) {
+  const std::string names = r.get_string(prefix + "fields");
+  const std::string expected = field_names(prognostic_info_, diagnostic_info_);
+  if (names != expected) {
+    throw io::IoError(r.path(), "checkpoint " + r.path().string() +
+                                    " holds a closure with the fields '" + names +
+                                    "', not this closure's '" + expected + "'");
+  }
+  load_fields(r, prefix + "prognostic", prognostic_);
+  max_substeps_ = static_cast<int>(r.get_int(prefix + "max_substeps"));
+  last_substeps_ = static_cast<int>(r.get_int(prefix + "last_substeps"));
+  energy_tendency_ = r.get_doubles(prefix + "energy_tendency").at(0);
+  mean_count_ = r.get_int(prefix + "mean_count");
+  if (mean_count_ > 0) {
+    mean_prognostic_ = fields_for(prognostic_info_, setup_);
+    mean_diagnostics_ = fields_for(diagnostic_info_, setup_);
+    mean_tendency_.assign(uz(setup_.layers()), setup_.nodes());
+    load_fields(r, prefix + "mean_prognostic", mean_prognostic_);
+    load_fields(r, prefix + "mean_diagnostics", mean_diagnostics_);
+    load_fields(r, prefix + "mean_tendency", mean_tendency_);
   }
 }
 

@@ -92,6 +92,11 @@ class ClosureHost final : public BudgetHook {
 
   void after_dynamics(ModelState& state) override { apply(state); }
   [[nodiscard]] double last_energy_tendency() const override { return energy_tendency_; }
+  // Checkpoints: the prognostic fields, the time means and the sub-step counts, so that a
+  // resumed run continues bit for bit. The closure object itself holds no state across steps
+  // (CLOSURES.md: whatever it carries is a prognostic field, stepped and stored by the host).
+  void save(io::CheckpointWriter& w, const std::string& prefix) const override;
+  void load(const io::CheckpointReader& r, const std::string& prefix) override;
 
   // The fractional step on state.q (psi frozen); also steps the prognostic fields.
   void apply(ModelState& state);

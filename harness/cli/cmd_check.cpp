@@ -15,7 +15,11 @@
 #include "harness/case/case.hpp"
 #include "harness/case/derived.hpp"
 #include "harness/cli/cli.hpp"
+#include "harness/closure_host/host.hpp"
+#include "harness/closure_host/parameters.hpp"
+#include "harness/closure_host/registry.hpp"
 #include "harness/io/atomic_file.hpp"
+#include "harness/run/setup.hpp"
 
 namespace plateau::cli {
 namespace {
@@ -106,6 +110,54 @@ class Table {
   std::vector<std::string> header_;
   std::vector<std::vector<std::string>> rows_;
 };
+
+// A closure the case names, with the numbers of its fractional step on the coarse grid at its
+// diffusivity bound (harness/closure_host/host.hpp), or why they could not be computed.
+struct ClosureNumbers {
+  std::string name;
+  bool known = false;
+  ClosureStepNumbers step;
+};
+
+std::vector<ClosureNumbers> closure_numbers(const Case& c) {
+  std::vector<ClosureNumbers> out;
+  if (c.closures.empty()) return out;
+  const closure::Setup setup =
+      make_setup(make_grid(c, GridRole::coarse), make_model_params(c, GridRole::coarse));
+  for (const ClosureChoice& choice : c.closures) {
+    ClosureNumbers n;
+    n.name = choice.name;
+    const closure::Info* info = find_registered_closure(choice.name);
+    if (info != nullptr) {
+      const closure::Params params = resolve_params(*info, &choice, c.source, {});
+      const auto instance = make_closure(*info, params, setup);
+      n.known = true;
+      n.step = closure_step_numbers(*instance, setup);
+    }
+    out.push_back(std::move(n));
+  }
+  return out;
+}
+
+void print_closures(const std::vector<ClosureNumbers>& closures, std::ostream& out) {
+  if (closures.empty()) return;
+  Table t(
+      {"Closures (coarse grid)", "diffused", "K bound", "K dt s", "sub-steps", "K dt / Ld_min^2"});
+  for (const ClosureNumbers& n : closures) {
+    if (!n.known) {
+      t.row({n.name, "not built in", "", "", "", ""});
+      continue;
+    }
+    const ClosureStepNumbers& s = n.step;
+    t.row({n.name, s.full_pv ? "full PV" : "stretching", num(s.k_bound_m2_per_s) + " m2/s",
+           num(s.diffusion_number), std::to_string(s.substeps),
+           s.full_pv ? "-" : num(s.stretching_stiffness)});
+  }
+  t.print(out);
+  out << "  K dt s = K dt (1/dx^2 + 1/dy^2): a full-PV closure is sub-stepped to keep it <= 1/4;\n"
+         "  a stretching closure takes one step, and its stiffness K dt / Ld_min^2 should stay "
+         "below 1.\n\n";
+}
 
 void print_report(const Case& c, const DerivedNumbers& d, const std::vector<Finding>& findings,
                   std::ostream& out) {
@@ -219,6 +271,7 @@ void print_report(const Case& c, const DerivedNumbers& d, const std::vector<Find
           " ns per node, layer and step, one thread");
   grid.print(out);
   out << '\n';
+  print_closures(closure_numbers(c), out);
 
   int failures = 0;
   for (const auto& f : findings) {
@@ -309,6 +362,19 @@ nlohmann::json report_json(const Case& c, const DerivedNumbers& d,
         {{"severity", failure ? "failure" : "warning"}, {"grid", f.grid}, {"message", f.message}});
   }
   j["findings"] = list;
+  nlohmann::json closures = nlohmann::json::array();
+  for (const ClosureNumbers& n : closure_numbers(c)) {
+    nlohmann::json e = {{"name", n.name}, {"registered", n.known}};
+    if (n.known) {
+      e["target"] = n.step.full_pv ? "full_pv" : "stretching";
+      e["k_bound_m2_per_s"] = finite_or_null(n.step.k_bound_m2_per_s);
+      e["diffusion_number"] = finite_or_null(n.step.diffusion_number);
+      e["substeps"] = n.step.substeps;
+      e["stretching_stiffness"] = finite_or_null(n.step.stretching_stiffness);
+    }
+    closures.push_back(e);
+  }
+  j["closures"] = closures;
   j["result"] = failed ? "failed" : "ok";
   return j;
 }

@@ -354,6 +354,48 @@ TEST(CheckCommand, BadDtExitsOne) {
   std::filesystem::remove(path);
 }
 
+// The closures table of `check` for the demo case: each closure's diffusion number against the
+// explicit-diffusion formula K dt (1/dx^2 + 1/dy^2), with K the case's own value (constant) and
+// the stability bound 1/4 of forward Euler on the 5-point Laplacian (common practice).
+TEST(CheckCommand, ClosureStepNumbersFollowTheDiffusionFormula) {
+  const Case c = load("double_gyre_3layer");
+  const auto json_path = std::filesystem::temp_directory_path() / "plateau_test_check.json";
+  cli::CheckOptions options;
+  options.case_path = c.source;
+  options.json_path = json_path;
+  std::ostringstream out;
+  std::ostringstream err;
+  ASSERT_EQ(cli::run_check(options, {}, out, err), cli::kExitOk);
+  EXPECT_NE(out.str().find("Closures (coarse grid)"), std::string::npos);
+  std::ifstream in(json_path);
+  const nlohmann::json j = nlohmann::json::parse(in);
+  ASSERT_EQ(j["closures"].size(), c.closures.size());
+  const double dx = c.lx_m / c.coarse.nx;
+  const double dy = c.ly_m / c.coarse.ny;
+  const double s = 1.0 / (dx * dx) + 1.0 / (dy * dy);
+  bool saw_constant = false;
+  for (const auto& e : j["closures"]) {
+    ASSERT_TRUE(e["registered"].get<bool>()) << e.dump();
+    const double k = e["k_bound_m2_per_s"].get<double>();
+    EXPECT_NEAR(e["diffusion_number"].get<double>(), k * c.coarse.dt_s * s, 1e-12 * (1.0 + k));
+    if (e["target"] == "full_pv") {
+      // The least n with (K dt / n) s <= 1/4.
+      const int n = e["substeps"].get<int>();
+      EXPECT_LE(k * c.coarse.dt_s / n * s, 0.25 + 1e-12);
+      if (n > 1) {
+        EXPECT_GT(k * c.coarse.dt_s / (n - 1) * s, 0.25);
+      }
+    } else {
+      EXPECT_EQ(e["substeps"].get<int>(), 1);
+    }
+    if (e["name"] == "constant") {
+      saw_constant = true;
+      EXPECT_EQ(k, 500.0);  // cases/double_gyre_3layer.toml [closure.constant] k_m2_per_s
+    }
+  }
+  EXPECT_TRUE(saw_constant);
+}
+
 TEST(CheckCommand, BadCaseThrowsCaseError) {
   cli::CheckOptions options;
   options.case_path = kSourceDir / "cases" / "no_such_case.toml";

@@ -18,6 +18,9 @@
 namespace CLI {
 class App;
 }
+namespace plateau::report {
+struct ReportResult;
+}
 
 namespace plateau::cli {
 
@@ -65,6 +68,12 @@ void add_truth_command(CLI::App& app, Invocation& invocation);
 // plateau score CASE -c NAME, plateau compare CASE   (cmd_score.cpp)
 void add_score_command(CLI::App& app, Invocation& invocation);
 void add_compare_command(CLI::App& app, Invocation& invocation);
+// plateau report DIR [--out FILE]           (cmd_report.cpp)
+void add_report_command(CLI::App& app, Invocation& invocation);
+// What report::write_report() did, for `report` and the --report option of other commands:
+// its warnings on err, and unless quiet the page and the figures' folder on out. Returns 0.
+int print_report_summary(const report::ReportResult& result, const GlobalOptions& global,
+                         std::ostream& out, std::ostream& err);
 
 struct CheckOptions {
   std::filesystem::path case_path;

@@ -48,6 +48,7 @@ int run_cli(int argc, char** argv) {
   add_truth_command(app, invocation);
   add_score_command(app, invocation);
   add_compare_command(app, invocation);
+  add_report_command(app, invocation);
 
   try {
     app.parse(argc, argv);

@@ -74,6 +74,10 @@ void add_report_command(CLI::App& app, Invocation& invocation);
 // its warnings on err, and unless quiet the page and the figures' folder on out. Returns 0.
 int print_report_summary(const report::ReportResult& result, const GlobalOptions& global,
                          std::ostream& out, std::ostream& err);
+// plateau tune CASE -c NAME                 (cmd_tune.cpp)
+void add_tune_command(CLI::App& app, Invocation& invocation);
+// plateau regress SUITE                     (cmd_regress.cpp)
+void add_regress_command(CLI::App& app, Invocation& invocation);
 
 struct CheckOptions {
   std::filesystem::path case_path;

@@ -3,8 +3,10 @@
 // --out DIR (default results/CASE-NAME/ or results/CASE-compare/) as run-NAME.nc with
 // score-NAME.json beside them, and compare.json for a comparison.
 //
-// compare runs its closures on a pool of --threads workers, each run single-threaded: every
-// run is deterministic, so the scorecards are the same bits whatever the worker count.
+// compare runs its closures on a pool of --threads workers, each run single-threaded, and under
+// mpirun over the ranks too (harness/study/dispatch.hpp; rank 0 alone writes the JSON files,
+// each rank its own runs' NetCDF files): every run is deterministic, so the scorecards are the
+// same bits whatever the worker and rank count.
 
 #include <algorithm>
 #include <atomic>
@@ -18,9 +20,7 @@
 #include <optional>
 #include <sstream>
 #include <string>
-#include <thread>
 #include <vector>
-#include <omp.h>
 
 #include <CLI/CLI.hpp>
 #include <nlohmann/json.hpp>
@@ -29,6 +29,7 @@
 #include "harness/cli/truth_options.hpp"
 #include "harness/closure_host/plugin.hpp"
 #include "harness/io/atomic_file.hpp"
+#include "harness/study/dispatch.hpp"
 #include "harness/study/evaluate.hpp"
 #include "plateau/version.hpp"
 
@@ -174,15 +175,25 @@ int run_scoring(const char* command, const ScoreCommandOptions& o, const GlobalO
     }
   }
   std::vector<Candidate> candidates;
+  candidates.reserve(names.size());
   for (const std::string& n : names) candidates.push_back(make_candidate(c, n, o.sets));
 
   const fs::path out =
       o.out.empty() ? fs::path("results") / (c.name + "-" + (compare ? "compare" : names.front()))
                     : o.out;
   install_stop_handlers();
+  // MPI only for compare (STUDIES.md); ranks other than 0 stay quiet and write no summary.
+  const Ranks& ranks = compare ? Ranks::world() : Ranks::single();
+  GlobalOptions rank_global = global;
+  rank_global.quiet = global.quiet || !ranks.is_root();
+  const bool quiet = rank_global.quiet;
   TruthResult truth;
   try {
-    truth = case_truth(c, o.cache, global);
+    truth = root_first(ranks, [&] {
+      CacheChoice cache = o.cache;
+      cache.force = cache.force && ranks.is_root();
+      return case_truth(c, cache, rank_global);
+    });
   } catch (const NumericalFailure& e) {
     print_error(std::cerr, std::string("the truth run failed: ") + e.what());
     return kExitNumerical;
@@ -191,53 +202,69 @@ int run_scoring(const char* command, const ScoreCommandOptions& o, const GlobalO
               << command << " " << o.case_path.string() << '\n';
     return kExitInterrupted;
   }
-  if (!global.quiet) std::cerr << "plateau: truth " << truth_summary(truth) << '\n';
+  if (!quiet) std::cerr << "plateau: truth " << truth_summary(truth) << '\n';
 
-  // Candidates on a pool of workers, results kept in the order given.
+  // Candidates on a pool of workers (and, for compare under mpirun, over the ranks: item i on
+  // rank i mod size), results kept in the order given on every rank; rank 0 writes.
   std::vector<Outcome> outcomes(candidates.size());
-  std::atomic<std::size_t> next{0};
-  std::atomic<bool> interrupted{false};
   std::mutex print_mutex;
   std::size_t done = 0;
-  const std::size_t workers =
-      std::min<std::size_t>(candidates.size(), static_cast<std::size_t>(thread_count(global)));
   const auto t0 = std::chrono::steady_clock::now();
-  auto work = [&]() {
-    omp_set_num_threads(1);
-    for (std::size_t i = next++; i < candidates.size(); i = next++) {
-      Outcome& r = outcomes[i];
-      r.label = candidates[i].label;
-      EvaluationOptions eo;
-      eo.out_dir = out;
-      eo.resume = !o.fresh;
-      eo.history = history_of(command, o);
-      eo.stop_flag = &stop_flag();
-      if (!compare) eo.progress = progress_printer("run " + r.label, global.quiet);
-      try {
-        r.eval = evaluate(c, truth.data, candidates[i], eo);
-        write_json(out / ("score-" + file_label(r.label) + ".json"),
-                   scorecard_to_json(r.eval->card));
-      } catch (const NumericalFailure& e) {
-        r.failure = e.what();
-      } catch (const RunInterrupted&) {
-        interrupted = true;
-      }
-      const std::lock_guard<std::mutex> lock(print_mutex);
-      ++done;
-      if (compare && !global.quiet) {
-        const double wall =
-            std::chrono::duration<double>(std::chrono::steady_clock::now() - t0).count();
-        std::cerr << "plateau: compare " << done << "/" << candidates.size() << " " << r.label
-                  << (r.eval ? " overall " + fmt(r.eval->card.overall()) : " failed") << " ("
-                  << fmt(wall, 1) << " s)\n";
-      }
+  auto work = [&](std::size_t i) -> std::string {
+    nlohmann::json r;
+    EvaluationOptions eo;
+    eo.out_dir = out;
+    eo.resume = !o.fresh;
+    eo.history = history_of(command, o);
+    eo.stop_flag = &stop_flag();
+    if (!compare) eo.progress = progress_printer("run " + candidates[i].label, quiet);
+    try {
+      r["eval"] = evaluation_to_wire(evaluate(c, truth.data, candidates[i], eo));
+    } catch (const NumericalFailure& e) {
+      r["failure"] = e.what();
+    } catch (const RunInterrupted&) {
+      r["interrupted"] = true;
+    }
+    return r.dump();
+  };
+  auto finished = [&](std::size_t i, const std::string& text) {
+    const std::lock_guard<std::mutex> lock(print_mutex);
+    ++done;
+    if (compare && !quiet) {
+      const nlohmann::json r = nlohmann::json::parse(text);
+      const double wall =
+          std::chrono::duration<double>(std::chrono::steady_clock::now() - t0).count();
+      std::cerr << "plateau: compare " << done << "/" << candidates.size()
+                << (ranks.size() > 1 ? " on rank " + std::to_string(ranks.rank()) : "") << " "
+                << candidates[i].label
+                << (r.contains("eval")
+                        ? " overall " + fmt(evaluation_from_wire(r["eval"]).card.overall())
+                        : " failed")
+                << " (" << fmt(wall, 1) << " s)\n";
     }
   };
-  std::vector<std::thread> pool;
-  for (std::size_t w = 1; w < workers; ++w) pool.emplace_back(work);
-  work();
-  for (std::thread& t : pool) t.join();
+  const std::vector<std::string> results =
+      spread(ranks, candidates.size(), threads_per_rank(ranks, global.threads), work, finished);
+  bool interrupted = false;
+  for (std::size_t i = 0; i < candidates.size(); ++i) {
+    const nlohmann::json r = nlohmann::json::parse(results[i]);
+    Outcome& oc = outcomes[i];
+    oc.label = candidates[i].label;
+    if (r.contains("eval")) oc.eval = evaluation_from_wire(r["eval"]);
+    if (r.contains("failure")) oc.failure = r["failure"].get<std::string>();
+    interrupted = interrupted || r.contains("interrupted");
+  }
+  if (ranks.is_root()) {
+    for (const Outcome& oc : outcomes) {
+      if (oc.eval) {
+        nlohmann::json card = scorecard_to_json(oc.eval->card);
+        card["truth"] = (truth.entry / "truth.nc").string();  // where `plateau report` finds it
+        write_json(out / ("score-" + file_label(oc.label) + ".json"), card);
+      }
+    }
+  }
   if (interrupted) {
+    if (!ranks.is_root()) return kExitInterrupted;
     std::cerr << "\nplateau: interrupted; the coarse runs' checkpoints are in "
               << (out / "checkpoints").string() << "\nplateau: continue with: plateau " << command
               << " " << o.case_path.string() << (o.out.empty() ? "" : " --out " + o.out.string())
@@ -246,6 +273,7 @@ int run_scoring(const char* command, const ScoreCommandOptions& o, const GlobalO
   }
 
   std::vector<const Outcome*> ranked;
+  ranked.reserve(outcomes.size());
   for (const Outcome& r : outcomes) ranked.push_back(&r);
   std::stable_sort(ranked.begin(), ranked.end(), [](const Outcome* a, const Outcome* b) {
     if (a->eval.has_value() != b->eval.has_value()) return a->eval.has_value();
@@ -266,10 +294,11 @@ int run_scoring(const char* command, const ScoreCommandOptions& o, const GlobalO
     for (const Outcome& r : outcomes) {
       if (r.eval) j["scorecards"][r.label] = scorecard_to_json(r.eval->card);
     }
-    write_json(out / "compare.json", j);
+    if (ranks.is_root()) write_json(out / "compare.json", j);
   } else if (outcomes.front().eval) {
     j = scorecard_to_json(outcomes.front().eval->card);
   }
+  if (!ranks.is_root()) return failed ? kExitNumerical : kExitOk;
   if (!o.json.empty() && !j.is_null()) write_json(o.json, j);
 
   if (!global.quiet) {

@@ -49,6 +49,8 @@ int run_cli(int argc, char** argv) {
   add_score_command(app, invocation);
   add_compare_command(app, invocation);
   add_report_command(app, invocation);
+  add_tune_command(app, invocation);
+  add_regress_command(app, invocation);
 
   try {
     app.parse(argc, argv);

@@ -22,6 +22,7 @@
 #include "harness/cli/truth_options.hpp"
 #include "harness/closure_host/plugin.hpp"
 #include "harness/io/atomic_file.hpp"
+#include "harness/report/report.hpp"
 #include "harness/study/dispatch.hpp"
 #include "harness/study/evaluate.hpp"
 #include "harness/study/regress.hpp"
@@ -38,6 +39,7 @@ struct RegressCommandOptions {
   std::vector<fs::path> plugins;
   fs::path out;
   fs::path json;
+  bool report = false;  // --report: plateau report OUT afterwards
   CacheChoice cache;
 };
 
@@ -293,6 +295,11 @@ int run_regress(const RegressCommandOptions& o, const GlobalOptions& global) {
                 << '\n';
     }
   }
+  if (o.report) {
+    if (!quiet) std::cout << '\n';
+    (void)print_report_summary(plateau::report::write_report(out), rank_global, std::cout,
+                               std::cerr);
+  }
   if (o.update_baseline) return kExitOk;
   return report.regressed() ? kExitFailedCheck : kExitOk;
 }
@@ -312,6 +319,8 @@ void add_regress_command(CLI::App& app, Invocation& invocation) {
       ->check(CLI::ExistingFile);
   cmd->add_option("--out", opts->out, "results folder (default results/SUITE-regress/)");
   cmd->add_option("--json", opts->json, "also write regress.json to FILE");
+  cmd->add_flag("--report", opts->report,
+                "then write the HTML report and SVG figures of the results folder");
   add_cache_options(*cmd, opts->cache);
   cmd->callback(
       [opts, &invocation]() { invocation.exit_code = run_regress(*opts, invocation.global); });

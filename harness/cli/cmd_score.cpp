@@ -29,6 +29,7 @@
 #include "harness/cli/truth_options.hpp"
 #include "harness/closure_host/plugin.hpp"
 #include "harness/io/atomic_file.hpp"
+#include "harness/report/report.hpp"
 #include "harness/study/dispatch.hpp"
 #include "harness/study/evaluate.hpp"
 #include "plateau/version.hpp"
@@ -46,7 +47,8 @@ struct ScoreCommandOptions {
   fs::path out;
   fs::path json;
   CacheChoice cache;
-  bool fresh = false;  // --fresh: ignore coarse-run checkpoints
+  bool fresh = false;   // --fresh: ignore coarse-run checkpoints
+  bool report = false;  // --report: plateau report OUT afterwards
 };
 
 std::string history_of(const char* command, const ScoreCommandOptions& o) {
@@ -146,15 +148,35 @@ void print_headline(std::ostream& out, const std::vector<const Outcome*>& ranked
     if (headline) ids.push_back(m.id);
   }
   if (ids.empty()) return;
-  out << "\n  headline metrics (truth | each closure)\n";
+  // One column per closure in rank order after the truth's; 4 significant digits, whatever
+  // the magnitude (energies are of order 1e14).
+  const auto sig = [](std::optional<double> v) -> std::string {
+    if (!v || !std::isfinite(*v)) return "-";
+    std::ostringstream s;
+    s << std::setprecision(4) << *v;
+    return s.str();
+  };
+  std::vector<std::string> header = {"truth"};
+  for (const Outcome* o : ranked) {
+    if (o->eval) header.push_back(o->label);
+  }
+  std::vector<std::size_t> width;
+  for (const std::string& h : header) width.push_back(std::max<std::size_t>(h.size(), 10));
+  out << "\n  headline metrics\n  " << std::left << std::setw(40) << "metric" << std::right;
+  for (std::size_t i = 0; i < header.size(); ++i) {
+    out << "  " << std::setw(static_cast<int>(width[i])) << header[i];
+  }
+  out << "  unit\n";
   for (const std::string& id : ids) {
     const Metric* t = first->eval->card.find(id);
-    out << "  " << std::left << std::setw(42) << id << std::right << std::setw(11)
-        << fmt(t ? t->truth : std::nullopt, 4) << " |";
+    out << "  " << std::left << std::setw(40) << id << std::right << "  "
+        << std::setw(static_cast<int>(width[0])) << sig(t ? t->truth : std::nullopt);
+    std::size_t col = 1;
     for (const Outcome* o : ranked) {
       if (!o->eval) continue;
       const Metric* m = o->eval->card.find(id);
-      out << "  " << o->label << " " << fmt(m ? m->candidate : std::nullopt, 4);
+      out << "  " << std::setw(static_cast<int>(width[col++]))
+          << sig(m ? m->candidate : std::nullopt);
     }
     out << "  " << (t ? t->unit : "") << '\n';
   }
@@ -323,6 +345,10 @@ int run_scoring(const char* command, const ScoreCommandOptions& o, const GlobalO
     if (compare) std::cout << "  wrote   " << (out / "compare.json").string() << '\n';
     if (!o.json.empty()) std::cout << "  wrote   " << o.json.string() << '\n';
   }
+  if (o.report && !j.is_null()) {
+    if (!global.quiet) std::cout << '\n';
+    (void)print_report_summary(report::write_report(out), global, std::cout, std::cerr);
+  }
   if (!compare && !outcomes.front().eval) {
     print_error(std::cerr, outcomes.front().failure);
     return kExitNumerical;
@@ -340,6 +366,9 @@ void add_common(CLI::App* cmd, ScoreCommandOptions& o) {
   cmd->add_option("--out", o.out, "results folder");
   cmd->add_option("--json", o.json, "also write the result as JSON to FILE");
   cmd->add_flag("--fresh", o.fresh, "start the coarse runs afresh instead of from checkpoints");
+  cmd->add_flag("--report", o.report,
+                "then write the HTML report and SVG figures of the results folder (plateau "
+                "report OUT)");
   add_cache_options(*cmd, o.cache);
 }
 

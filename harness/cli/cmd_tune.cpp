@@ -22,6 +22,7 @@
 #include "harness/closure_host/parameters.hpp"
 #include "harness/closure_host/plugin.hpp"
 #include "harness/io/atomic_file.hpp"
+#include "harness/report/report.hpp"
 #include "harness/study/dispatch.hpp"
 #include "harness/study/tune.hpp"
 
@@ -45,6 +46,7 @@ struct TuneCommandOptions {
   fs::path out;
   fs::path json;
   bool fresh = false;
+  bool report = false;  // --report: plateau report OUT afterwards
   CacheChoice cache;
 };
 
@@ -222,6 +224,10 @@ int run_tune_command(const TuneCommandOptions& o, const GlobalOptions& global) {
   for (std::string line; std::getline(lines, line);) std::cout << "    " << line << '\n';
   std::cout << "\n  truth    " << truth_summary(truth) << "\n  wrote    " << r.log.string() << '\n';
   if (!o.json.empty()) std::cout << "  wrote    " << o.json.string() << '\n';
+  if (o.report) {
+    std::cout << '\n';
+    (void)print_report_summary(report::write_report(to.out_dir), global, std::cout, std::cerr);
+  }
   return kExitOk;
 }
 
@@ -263,6 +269,8 @@ void add_tune_command(CLI::App& app, Invocation& invocation) {
   cmd->add_option("--out", opts->out, "results folder (default results/CASE-NAME/)");
   cmd->add_option("--json", opts->json, "also write the result as JSON to FILE");
   cmd->add_flag("--fresh", opts->fresh, "start over instead of resuming the folder's tune log");
+  cmd->add_flag("--report", opts->report,
+                "then write the HTML report and SVG figures of the output folder");
   add_cache_options(*cmd, opts->cache);
   cmd->callback([opts, &invocation]() {
     try {

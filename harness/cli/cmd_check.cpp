@@ -403,6 +403,7 @@ int run_check(const CheckOptions& options, const GlobalOptions& global, std::ost
   }
   if (!options.json_path.empty()) {
     io::write_text_atomic(options.json_path, report_json(c, d, findings).dump(2) + "\n");
+    if (!global.quiet) out << "\n  wrote   " << options.json_path.string() << '\n';
   }
   return failed ? kExitFailedCheck : kExitOk;
 }

@@ -116,7 +116,10 @@ int run_closures(const ClosuresOptions& o, const GlobalOptions& global) {
       std::cout << text;
     } else {
       io::write_text_atomic(o.json_path, text);
-      if (!global.quiet) print_table(std::cout);
+      if (!global.quiet) {
+        print_table(std::cout);
+        std::cout << "\n  wrote   " << o.json_path << '\n';
+      }
     }
     return kExitOk;
   }

@@ -161,6 +161,7 @@ void print_headline(std::ostream& out, const std::vector<const Outcome*>& ranked
     if (o->eval) header.push_back(o->label);
   }
   std::vector<std::size_t> width;
+  width.reserve(header.size());
   for (const std::string& h : header) width.push_back(std::max<std::size_t>(h.size(), 10));
   out << "\n  headline metrics\n  " << std::left << std::setw(40) << "metric" << std::right;
   for (std::size_t i = 0; i < header.size(); ++i) {

@@ -223,7 +223,8 @@ Figure map_figure(std::string name, std::string title, std::string caption,
     svg.begin_group("map-panel");
     panel_title(svg, area, mp.title);
     if (f.nx > 0 && f.ny > 0 &&
-        f.values.size() == static_cast<std::size_t>((f.nx + 1) * (f.ny + 1))) {
+        f.values.size() ==
+            static_cast<std::size_t>(f.nx + 1) * static_cast<std::size_t>(f.ny + 1)) {
       const double dx = area.w / f.nx;
       const double dy = area.h / f.ny;
       svg.begin_clip(area);

@@ -117,9 +117,10 @@ Figure pv_maps(const RunFields* truth, const RunFields& run, int k) {
     p.interior_only = true;
     return p;
   };
-  if (truth)
+  if (truth) {
     panels.push_back(
         panel("truth", *truth, truth->q[l], ColourMap::sequential, range, "q", *truth));
+  }
   panels.push_back(panel(run.label, run, run.q[l], ColourMap::sequential, range, "q", run));
   std::string caption;
   if (truth) {
@@ -317,7 +318,7 @@ std::vector<Figure> tune_figures(const TuneLog& log) {
     m.x = log.params[0];
     m.y = log.params[1];
     for (const auto& v : log.values) {
-      m.px.push_back(v.size() > 0 ? v[0] : std::nan(""));
+      m.px.push_back(!v.empty() ? v[0] : std::nan(""));
       m.py.push_back(v.size() > 1 ? v[1] : std::nan(""));
     }
     m.score = log.skill;
@@ -471,7 +472,7 @@ ReportResult write_report(const fs::path& dir, const ReportOptions& options) {
       }
       runs.push_back(std::move(r));
     } catch (const std::exception& e) {
-      warnings.push_back(e.what());
+      warnings.emplace_back(e.what());
     }
   }
 
@@ -483,7 +484,7 @@ ReportResult write_report(const fs::path& dir, const ReportOptions& options) {
       try {
         truth = read_truth_file(truth_file, runs.front());
       } catch (const std::exception& e) {
-        warnings.push_back(e.what());
+        warnings.emplace_back(e.what());
       }
     } else {
       warnings.push_back("the truth " + truth_file.string() +
@@ -510,7 +511,7 @@ ReportResult write_report(const fs::path& dir, const ReportOptions& options) {
         "candidate values.";
     sections.push_back(std::move(s));
   } else {
-    result.skipped.push_back("skills: no compare.json or score-*.json");
+    result.skipped.emplace_back("skills: no compare.json or score-*.json");
   }
   if (!runs.empty()) {
     Section maps{"pv-maps", "Time-mean potential vorticity", "", {}, ""};
@@ -531,7 +532,7 @@ ReportResult write_report(const fs::path& dir, const ReportOptions& options) {
     if (!qpsi.figures.empty()) {
       sections.push_back(std::move(qpsi));
     } else {
-      result.skipped.push_back("q-psi: the runs have no sheltered layer (one layer)");
+      result.skipped.emplace_back("q-psi: the runs have no sheltered layer (one layer)");
     }
 
     Section tr{"transport", "Gyre transport", "", {transport_maps(tp, runs)}, ""};
@@ -541,12 +542,12 @@ ReportResult write_report(const fs::path& dir, const ReportOptions& options) {
     if (auto f = transport_series(tp, runs)) {
       ser.figures.push_back(std::move(*f));
     } else {
-      result.skipped.push_back("transport series: no snapshots in the run files");
+      result.skipped.emplace_back("transport series: no snapshots in the run files");
     }
     sections.push_back(std::move(ser));
-    if (!truth) result.skipped.push_back("truth: not found, so nothing is compared");
+    if (!truth) result.skipped.emplace_back("truth: not found, so nothing is compared");
   } else {
-    result.skipped.push_back("maps and series: no run-*.nc");
+    result.skipped.emplace_back("maps and series: no run-*.nc");
   }
   if (tune) {
     Section s{"tune", "Tune", "", tune_figures(*tune), ""};
@@ -554,14 +555,14 @@ ReportResult write_report(const fs::path& dir, const ReportOptions& options) {
               " evaluations.";
     sections.push_back(std::move(s));
   } else {
-    result.skipped.push_back("tune: no tune-log.jsonl");
+    result.skipped.emplace_back("tune: no tune-log.jsonl");
   }
   if (regress) {
     Section s{"regress", "Regress", "", {regress_figure(*regress)}, ""};
     s.intro = "From <code>regress.json</code>.";
     sections.push_back(std::move(s));
   } else {
-    result.skipped.push_back("regress: no regress.json");
+    result.skipped.emplace_back("regress: no regress.json");
   }
 
   const std::string case_name = skills && !skills->case_name.empty() ? skills->case_name : "";

@@ -10,6 +10,8 @@
 #include <utility>
 #include <vector>
 
+#include "harness/io/xml.hpp"
+
 namespace plateau::report {
 
 struct Point {
@@ -42,8 +44,8 @@ struct Stroke {
   std::string dash;  // SVG stroke-dasharray, empty: solid
 };
 
-// Text safe inside XML character data and attribute values.
-std::string xml_escape(std::string_view text);
+// Text safe inside XML character data and attribute values (harness/io/xml.hpp).
+using io::xml_escape;
 // A coordinate or length with at most two decimals, no trailing zeros ("12.5", "3").
 std::string num(double v);
 

@@ -15,43 +15,13 @@
 #include <string>
 #include <vector>
 
+#include "harness/io/xml.hpp"
 #include "harness/study/regress.hpp"
 
 namespace plateau {
 namespace {
 
-std::string xml_escape(const std::string& s) {
-  std::string out;
-  out.reserve(s.size());
-  for (const char ch : s) {
-    switch (ch) {
-      case '&':
-        out += "&amp;";
-        break;
-      case '<':
-        out += "&lt;";
-        break;
-      case '>':
-        out += "&gt;";
-        break;
-      case '"':
-        out += "&quot;";
-        break;
-      case '\'':
-        out += "&apos;";
-        break;
-      case '\n':
-      case '\t':
-        out += ch;
-        break;
-      default:
-        // Control characters are not allowed in XML 1.0.
-        if (static_cast<unsigned char>(ch) >= 0x20) out += ch;
-        break;
-    }
-  }
-  return out;
-}
+using io::xml_escape;
 
 std::string skill_text(const std::optional<double>& v) {
   if (!v) return "-";

@@ -40,6 +40,28 @@ double taper_weight(double d, double width) {
 
 }  // namespace
 
+bool cpu_has_wide_simd() {
+#if PLATEAU_KIT_HAS_WIDE
+  static const bool has = [] {
+    __builtin_cpu_init();
+    return __builtin_cpu_supports("avx2") != 0;
+  }();
+  return has;
+#else
+  return false;
+#endif
+}
+
+namespace {
+std::atomic<bool>& wide_flag() {
+  static std::atomic<bool> on{cpu_has_wide_simd()};
+  return on;
+}
+}  // namespace
+
+bool wide_simd() { return wide_flag().load(std::memory_order_relaxed); }
+void set_wide_simd(bool on) { wide_flag().store(on && cpu_has_wide_simd()); }
+
 long min_parallel_nodes() { return g_min_parallel_nodes.load(); }
 void set_min_parallel_nodes(long nodes) { g_min_parallel_nodes.store(nodes); }
 bool parallel(const Setup& s) {
@@ -78,13 +100,15 @@ void stretching_pv(const Setup& s, std::span<const Field> psi, int k, Field& out
   const Field& pk = psi[uz(k)];
   const Field& pu = psi[uz(k > 0 ? k - 1 : k)];
   const Field& pd = psi[uz(k < n - 1 ? k + 1 : k)];
-  const Eigen::Index size = out.size();
-  const double* a = pu.data();
-  const double* b = pk.data();
-  const double* c = pd.data();
-  double* o = out.data();
+  const int rows = s.nx + 1;
+  for_rows(parallel(s), 0, s.ny + 1, [&](int j) {
+    const double* a = col(pu, j);
+    const double* b = col(pk, j);
+    const double* c = col(pd, j);
+    double* o = col(out, j);
 #pragma omp simd
-  for (Eigen::Index m = 0; m < size; ++m) o[m] = up * (a[m] - b[m]) - dn * (b[m] - c[m]);
+    for (int i = 0; i < rows; ++i) o[i] = up * (a[i] - b[i]) - dn * (b[i] - c[i]);
+  });
 }
 
 namespace {
@@ -102,11 +126,9 @@ void shear_row(const Field& a, const Field& b, double hx, double hy, int nx, int
   for (int i = 1; i < nx; ++i) {
     const double gx = hx * ((a0[i + 1] - b0[i + 1]) - (a0[i - 1] - b0[i - 1]));
     const double gy = hy * ((an[i] - bn[i]) - (as[i] - bs[i]));
-    o[i] = gx * gx + gy * gy;
+    // std::sqrt vectorises: the project compiles with -fno-math-errno (CMakeLists.txt).
+    o[i] = std::sqrt(gx * gx + gy * gy);
   }
-  // Eigen's packet square root (std::sqrt keeps errno and does not vectorise).
-  Eigen::Map<Eigen::ArrayXd> row(o + 1, nx - 1);
-  row = row.sqrt();
 }
 
 }  // namespace
@@ -137,12 +159,15 @@ double eady_diffusivity(const Setup& s, std::span<const Field> psi, int j, doubl
   for_rows(parallel(s), 1, ny, [&](int jj) {
     shear_row(pa, pb, hx, hy, nx, jj, out);
     double* o = col(out, jj);
-#pragma omp simd
+    double m = 0.0;  // K >= 0
+#pragma omp simd reduction(max : m)
     for (int i = 1; i < nx; ++i) {
       const double k = a * o[i];
-      o[i] = cap < k ? cap : k;  // std::min(k, cap), as a value select
+      const double v = cap < k ? cap : k;  // std::min(k, cap), as a value select
+      o[i] = v;
+      m = m < v ? v : m;
     }
-    row_max[uz(jj)] = Eigen::Map<const Eigen::ArrayXd>(o + 1, nx - 1).maxCoeff();
+    row_max[uz(jj)] = m;
   });
   double kmax = 0.0;
   for (int jj = 1; jj < ny; ++jj) kmax = std::max(kmax, row_max[uz(jj)]);
@@ -156,13 +181,14 @@ void layer_diffusivity(const Setup& s, std::span<const Field> interface_k, int k
   if (ni == 0) return;
   const Field& above = interface_k[uz(k == 0 ? 0 : k - 1)];
   const Field& below = interface_k[uz(k == ni ? ni - 1 : k)];
-  for (int j = 1; j < s.ny; ++j) {
+  const int nx = s.nx;
+  for_rows(parallel(s), 1, s.ny, [&](int j) {
     const double* a = col(above, j);
     const double* b = col(below, j);
     double* o = col(out, j);
 #pragma omp simd
-    for (int i = 1; i < s.nx; ++i) o[i] = 0.5 * (a[i] + b[i]);
-  }
+    for (int i = 1; i < nx; ++i) o[i] = 0.5 * (a[i] + b[i]);
+  });
 }
 
 MixingLength mixing_length_of(const std::string& choice) {
@@ -218,6 +244,30 @@ void to_faces(const Setup& s, const Field& nodes, const Taper* taper, Field& kx,
 #pragma omp simd
       for (int i = 1; i < nx; ++i) o[i] = 0.5 * (a[i] + b[i]);
     }
+  });
+}
+
+void eddy_velocity_faces(const Setup& s, const Field& e, double scale, Field& ux, Field& uy) {
+  const int nx = s.nx;
+  const int ny = s.ny;
+  const bool par = parallel(s);
+  if (ux.rows() != nx || ux.cols() != ny + 1) ux = s.x_faces();
+  if (uy.rows() != nx + 1 || uy.cols() != ny) uy = s.y_faces();
+  zero_border(ux);
+  zero_border(uy);
+  auto velocity = [scale](double mean) { return std::sqrt(scale * (mean < 0.0 ? 0.0 : mean)); };
+  for_rows(par, 1, ny, [&](int j) {
+    const double* a = col(e, j);
+    double* o = col(ux, j);
+#pragma omp simd
+    for (int i = 1; i < nx - 1; ++i) o[i] = velocity(0.5 * (a[i] + a[i + 1]));
+  });
+  for_rows(par, 1, ny - 1, [&](int j) {
+    const double* a = col(e, j);
+    const double* b = col(e, j + 1);
+    double* o = col(uy, j);
+#pragma omp simd
+    for (int i = 1; i < nx; ++i) o[i] = velocity(0.5 * (a[i] + b[i]));
   });
 }
 
@@ -418,7 +468,8 @@ void cap_faces(const Setup& s, const Field& ux, const Field& uy, double c_times_
                Field& ky) {
   const int nx = s.nx;
   const int ny = s.ny;
-  for (int j = 1; j < ny; ++j) {
+  const bool par = parallel(s);
+  for_rows(par, 1, ny, [&](int j) {
     const double* u = col(ux, j);
     double* k = col(kx, j);
 #pragma omp simd
@@ -427,8 +478,8 @@ void cap_faces(const Setup& s, const Field& ux, const Field& uy, double c_times_
       const double v = k[i];
       k[i] = cap < v ? cap : v;
     }
-  }
-  for (int j = 1; j < ny - 1; ++j) {
+  });
+  for_rows(par, 1, ny - 1, [&](int j) {
     const double* v = col(uy, j);
     double* k = col(ky, j);
 #pragma omp simd
@@ -437,7 +488,7 @@ void cap_faces(const Setup& s, const Field& ux, const Field& uy, double c_times_
       const double w = k[i];
       k[i] = cap < w ? cap : w;
     }
-  }
+  });
 }
 
 void zalesak_limit(const Setup& s, std::span<const Field> qt, double dt, bool common, Fluxes& f,
@@ -459,6 +510,10 @@ void zalesak_limit(const Setup& s, std::span<const Field> qt, double dt, bool co
   // The bounds are the extremes of each node and its interior neighbours: rows next to the
   // northern and southern walls take themselves as their wall-side row; the first and last
   // node of each row are redone without their wall neighbour after the (vectorised) loop.
+  // Rows whose R+ and R- are all 1 in every layer need no correction (in most steps most
+  // rows): a face is limited only if a node beside it is. Each row's flag is set by the one
+  // thread that computes the row.
+  std::vector<char> limited(uz(ny + 1), 0);
   for (int k = 0; k < n; ++k) {
     const Field& q = qt[uz(k)];
     const Field& fx = f.fx[uz(k)];
@@ -483,18 +538,14 @@ void zalesak_limit(const Setup& s, std::span<const Field> qt, double dt, bool co
                    m[1]);
       zalesak_node(q0[nx - 1], q0[nx - 2], q0[nx - 1], qs[nx - 1], qn[nx - 1], fxc[nx - 2],
                    fxc[nx - 1], fys[nx - 1], fyc[nx - 1], ax, ay, p[nx - 1], m[nx - 1]);
+      double lo = 1.0;  // min is exact and order-free
+#pragma omp simd reduction(min : lo)
+      for (int i = 1; i < nx; ++i) {
+        const double a = p[i] < m[i] ? p[i] : m[i];
+        lo = a < lo ? a : lo;
+      }
+      if (lo < 1.0) limited[uz(j)] = 1;
     });
-  }
-  // Rows whose R+ and R- are all 1 in every layer need no correction (in most steps most
-  // rows): a face is limited only if a node beside it is.
-  std::vector<char> limited(uz(ny + 1), 0);
-  for (int j = 1; j < ny; ++j) {
-    for (int k = 0; k < n && limited[uz(j)] == 0; ++k) {
-      const double lo =
-          std::min(Eigen::Map<const Eigen::ArrayXd>(col(*rps[uz(k)], j) + 1, nx - 1).minCoeff(),
-                   Eigen::Map<const Eigen::ArrayXd>(col(*rms[uz(k)], j) + 1, nx - 1).minCoeff());
-      limited[uz(j)] = lo < 1.0 ? 1 : 0;
-    }
   }
   // Face coefficients: a positive flux raises the downstream node and lowers the upstream one.
   Field& cfx = scratch.get(first_slot + 2 * uz(n), nx, ny + 1);
@@ -635,20 +686,29 @@ void shear_sum(const Setup& s, std::span<const Field> psi, Field& out, Field& wo
     out.setZero();
     return;
   }
-  // The first interface straight into `out`, the others through `work`.
-  shear_speed(s, psi, 0, out);
-  out *= s.f0 * std::sqrt(s.h_interface(0) / s.gprime(0));
+  // Row by row: the first interface straight into `out`, the others through `work`.
+  const int ni = s.interfaces();
+  const int nx = s.nx;
+  const double hx = 0.5 / s.dx;
+  const double hy = 0.5 / s.dy;
+  std::vector<double> w(uz(ni));
+  for (int j = 0; j < ni; ++j) w[uz(j)] = s.f0 * std::sqrt(s.h_interface(j) / s.gprime(j));
+  if (work.rows() != s.nx + 1 || work.cols() != s.ny + 1) work = s.nodes();
   zero_border(out);
-  for (int j = 1; j < s.interfaces(); ++j) {
-    shear_speed(s, psi, j, work);
-    const double w = s.f0 * std::sqrt(s.h_interface(j) / s.gprime(j));
-    for (int jj = 1; jj < s.ny; ++jj) {
-      const double* a = col(work, jj);
-      double* o = col(out, jj);
+  for_rows(parallel(s), 1, s.ny, [&](int jj) {
+    shear_row(psi[0], psi[1], hx, hy, nx, jj, out);
+    double* o = col(out, jj);
+    const double w0 = w[0];
 #pragma omp simd
-      for (int i = 1; i < s.nx; ++i) o[i] += w * a[i];
+    for (int i = 1; i < nx; ++i) o[i] *= w0;
+    for (int j = 1; j < ni; ++j) {
+      shear_row(psi[uz(j)], psi[uz(j + 1)], hx, hy, nx, jj, work);
+      const double* a = col(work, jj);
+      const double wj = w[uz(j)];
+#pragma omp simd
+      for (int i = 1; i < nx; ++i) o[i] += wj * a[i];
     }
-  }
+  });
 }
 
 void step_eddy_energy(const Setup& s, std::span<const Field> psi, std::span<const double> wall_psi,
@@ -664,49 +724,71 @@ void step_eddy_energy(const Setup& s, std::span<const Field> psi, std::span<cons
   // (i+1/2, j+1/2), i = 0..nx-1, j = 0..ny-1, the mean of the four nodes around; the ring of
   // corners next to the walls stays 0, which closes the walls of the interior control volumes.
   // Layer by layer over the whole array (the same sum per node, in the same order, vectorised).
-  Field& pb = scratch.get(first_slot, nx + 1, ny + 1, true);
+  // Row by row, the layers added in order into each node (the same sum as layer by layer over
+  // the whole array).
+  Field& pb = scratch.get(first_slot, nx + 1, ny + 1);
   {
     const double depth = s.total_depth();
-    double* o = pb.data();
-    const Eigen::Index size = pb.size();
-    for (int k = 0; k < n; ++k) {
-      const double* p = psi[uz(k)].data();
-      const double w = s.h(k) / depth;
-      const double c = wall_psi[uz(k)];
+    for_rows(par, 0, ny + 1, [&](int j) {
+      double* o = col(pb, j);
 #pragma omp simd
-      for (Eigen::Index m = 0; m < size; ++m) o[m] += w * (p[m] - c);
-    }
+      for (int i = 0; i <= nx; ++i) o[i] = 0.0;
+      for (int k = 0; k < n; ++k) {
+        const double* p = col(psi[uz(k)], j);
+        const double w = s.h(k) / depth;
+        const double c = wall_psi[uz(k)];
+#pragma omp simd
+        for (int i = 0; i <= nx; ++i) o[i] += w * (p[i] - c);
+      }
+    });
   }
   Field& pc = scratch.get(first_slot + 1, nx, ny);
   zero_border(pc);
-  for (int j = 1; j < ny - 1; ++j) {
+  for_rows(par, 1, ny - 1, [&](int j) {
     const double* b0 = col(pb, j);
     const double* b1 = col(pb, j + 1);
     double* o = col(pc, j);
 #pragma omp simd
     for (int i = 1; i < nx - 1; ++i) o[i] = 0.25 * ((b0[i] + b0[i + 1]) + (b1[i] + b1[i + 1]));
-  }
+  });
   // Face-normal velocities: u on x-face (i, j) from the corners above and below it, v on
-  // y-face (i, j) from the corners east and west of it. Discretely non-divergent.
+  // y-face (i, j) from the corners east and west of it. Discretely non-divergent. The largest
+  // |u| and |v| of each row, then of the rows (max is exact and order-free).
   Field& u = scratch.get(first_slot + 2, nx, ny + 1);
   Field& v = scratch.get(first_slot + 3, nx + 1, ny);
   zero_border(u);
   zero_border(v);
-  for (int j = 1; j < ny; ++j) {
+  std::vector<double> row_u(uz(ny + 1), 0.0);
+  std::vector<double> row_v(uz(ny + 1), 0.0);
+  for_rows(par, 1, ny, [&](int j) {
     const double* c0 = col(pc, j - 1);
     const double* c1 = col(pc, j);
     double* o = col(u, j);
-#pragma omp simd
-    for (int i = 1; i < nx - 1; ++i) o[i] = -(c1[i] - c0[i]) * iy;
-  }
-  for (int j = 1; j < ny - 1; ++j) {
+    double m = 0.0;
+#pragma omp simd reduction(max : m)
+    for (int i = 1; i < nx - 1; ++i) {
+      const double w = -(c1[i] - c0[i]) * iy;
+      o[i] = w;
+      const double a = std::abs(w);
+      m = m < a ? a : m;
+    }
+    row_u[uz(j)] = m;
+  });
+  for_rows(par, 1, ny - 1, [&](int j) {
     const double* c = col(pc, j);
     double* o = col(v, j);
-#pragma omp simd
-    for (int i = 1; i < nx; ++i) o[i] = (c[i] - c[i - 1]) * ix;
-  }
-  const double umax = u.abs().maxCoeff();
-  const double vmax = v.abs().maxCoeff();
+    double m = 0.0;
+#pragma omp simd reduction(max : m)
+    for (int i = 1; i < nx; ++i) {
+      const double w = (c[i] - c[i - 1]) * ix;
+      o[i] = w;
+      const double a = std::abs(w);
+      m = m < a ? a : m;
+    }
+    row_v[uz(j)] = m;
+  });
+  const double umax = *std::max_element(row_u.begin(), row_u.end());
+  const double vmax = *std::max_element(row_v.begin(), row_v.end());
   // Every update must stay a positive combination of the old values.
   const double rate = 2.0 * (umax * ix + vmax * iy) +
                       2.0 * rates.kappa_m2_per_s * (ix * ix + iy * iy) + rates.lambda_per_s;

@@ -93,10 +93,7 @@ class FluxLimitedClosure final : public Closure {
     if (bound_ && prognostic_e_) {
       Field& fx = scratch.get(kUeX, setup_.nx, setup_.ny + 1);
       Field& fy = scratch.get(kUeY, setup_.nx + 1, setup_.ny);
-      kit::to_faces(setup_, s.prognostic.front(), nullptr, fx, fy);
-      const double scale = 2.0 / setup_.total_depth();
-      fx = (scale * fx.max(0.0)).sqrt();
-      fy = (scale * fy.max(0.0)).sqrt();
+      kit::eddy_velocity_faces(setup_, s.prognostic.front(), 2.0 / setup_.total_depth(), fx, fy);
       ux = &fx;
       uy = &fy;
     }

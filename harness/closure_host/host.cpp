@@ -101,27 +101,6 @@ void zero_wall_faces(const closure::Setup& s, closure::Fluxes& f) {
   }
 }
 
-double closure_energy_tendency(const Model& model, const ModelState& s,
-                               const std::vector<Field>& dq) {
-  // Model::energy_tendency's sum in its order (layer by layer, rows, then nodes), on plain
-  // pointers: the same bits, without the per-element bounds checks.
-  const Grid& g = model.grid();
-  double total = 0.0;
-  for (int k = 0; k < model.n_layers(); ++k) {
-    const Field& psi = s.psi[uz(k)];
-    const Field& d = dq[uz(k)];
-    const double c = s.wall_psi[uz(k)];
-    double acc = 0.0;
-    for (int j = 1; j < g.ny; ++j) {
-      const double* p = col(psi, j);
-      const double* t = col(d, j);
-      for (int i = 1; i < g.nx; ++i) acc += (p[i] - c) * t[i];
-    }
-    total -= model.layers().h[uz(k)] * acc * g.cell_area();
-  }
-  return total;
-}
-
 void flux_divergence(const closure::Setup& s, const closure::Fluxes& f, std::vector<Field>& out) {
   const int n = s.layers();
   if (out.size() != uz(n)) out.assign(uz(n), s.nodes());
@@ -242,7 +221,7 @@ void ClosureHost::apply(ModelState& state) {
   }
   last_substeps_ = steps;
   max_substeps_ = std::max(max_substeps_, steps);
-  energy_tendency_ = closure_energy_tendency(model_, state, tendency_);
+  energy_tendency_ = model_.energy_tendency(state, tendency_);
 
   // The run's means count the steps that end after the spin-up (state.step is this step's
   // start index here; it ends as step + 1).

@@ -57,11 +57,6 @@ struct ClosureStepNumbers {
 [[nodiscard]] ClosureStepNumbers closure_step_numbers(const closure::Closure& c,
                                                       const closure::Setup& s);
 
-// Model::energy_tendency(s, dq) computed the same way (same order, same bits), faster: the
-// closure's energy tendency with the frozen psi as weight, m^5 s^-3.
-[[nodiscard]] double closure_energy_tendency(const Model& model, const ModelState& s,
-                                             const std::vector<Field>& dq);
-
 // Sets the fluxes on the faces that touch a wall (and the unused faces along the walls) to 0.
 void zero_wall_faces(const closure::Setup& s, closure::Fluxes& f);
 // dq/dt = -div F at the interior nodes (walls 0).

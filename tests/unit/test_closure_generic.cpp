@@ -198,7 +198,7 @@ std::vector<Field> three_steps(const Model& m, const Variant& v) {
   for (const Field& a : f.fx) out.push_back(a);
   for (const Field& a : f.fy) out.push_back(a);
   const double e = host.last_energy_tendency();
-  out.push_back(Field::Constant(1, 1, e));
+  out.emplace_back(Field::Constant(1, 1, e));
   return out;
 }
 

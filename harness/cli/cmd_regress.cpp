@@ -161,25 +161,18 @@ int run_regress(const RegressCommandOptions& o, const GlobalOptions& global) {
   const auto t0 = std::chrono::steady_clock::now();
   std::vector<TruthResult> truths;
   std::map<std::string, std::string> truth_keys;
-  try {
-    for (const Case& c : cases) {
-      truths.push_back(root_first(ranks, [&] {
-        CacheChoice cache = o.cache;
-        cache.force = cache.force && ranks.is_root();
-        return case_truth(c, cache, rank_global);
-      }));
-      truth_keys[c.name] = truths.back().data.key;
-      if (!quiet) {
-        std::cerr << "plateau: truth " << c.name << " " << truth_summary(truths.back()) << '\n';
-      }
-    }
-  } catch (const NumericalFailure& e) {
-    print_error(std::cerr, std::string("a truth run failed: ") + e.what());
-    return kExitNumerical;
-  } catch (const RunInterrupted& e) {
-    std::cerr << "\nplateau: interrupted: " << e.what() << '\n';
-    return kExitInterrupted;
-  }
+  const int truths_rc = obtain_truths(
+      [&] {
+        for (const Case& c : cases) {
+          truths.push_back(shared_case_truth(ranks, c, o.cache, rank_global));
+          truth_keys[c.name] = truths.back().data.key;
+          if (!quiet) {
+            std::cerr << "plateau: truth " << c.name << " " << truth_summary(truths.back()) << '\n';
+          }
+        }
+      },
+      "plateau regress " + o.suite_path.string());
+  if (truths_rc != 0) return truths_rc;
 
   const fs::path out = o.out.empty() ? fs::path("results") / (suite.name + "-regress") : o.out;
   const std::string history = "plateau regress " + o.suite_path.string();
@@ -191,22 +184,15 @@ int run_regress(const RegressCommandOptions& o, const GlobalOptions& global) {
     eo.out_dir = out / c.name;
     eo.history = history;
     eo.stop_flag = &stop_flag();
-    nlohmann::json r;
-    try {
+    return worker_result([&] {
       const Evaluation ev = evaluate(c, truths[case_of[i]].data, candidates[i], eo);
       nlohmann::json skills = nlohmann::json::object();
       for (const Metric& m : ev.card.metrics) {
         if (m.scored) skills[m.id] = m.skill;
       }
       skills["overall"] = ev.card.overall();
-      r["skills"] = std::move(skills);
-      r["wall_s"] = ev.wall_s;
-    } catch (const NumericalFailure& e) {
-      r["failure"] = e.what();
-    } catch (const RunInterrupted&) {
-      r["interrupted"] = true;
-    }
-    return r.dump();
+      return nlohmann::json{{"skills", std::move(skills)}, {"wall_s", ev.wall_s}};
+    });
   };
   auto finished = [&](std::size_t i, const std::string& text) {
     const std::lock_guard<std::mutex> lock(print_mutex);

@@ -211,19 +211,11 @@ int run_scoring(const char* command, const ScoreCommandOptions& o, const GlobalO
   rank_global.quiet = global.quiet || !ranks.is_root();
   const bool quiet = rank_global.quiet;
   TruthResult truth;
-  try {
-    truth = root_first(ranks, [&] {
-      CacheChoice cache = o.cache;
-      cache.force = cache.force && ranks.is_root();
-      return case_truth(c, cache, rank_global);
-    });
-  } catch (const NumericalFailure& e) {
-    print_error(std::cerr, std::string("the truth run failed: ") + e.what());
-    return kExitNumerical;
-  } catch (const RunInterrupted& e) {
-    std::cerr << "\nplateau: interrupted: " << e.what() << "\nplateau: continue with: plateau "
-              << command << " " << o.case_path.string() << '\n';
-    return kExitInterrupted;
+  if (const int rc =
+          obtain_truths([&] { truth = shared_case_truth(ranks, c, o.cache, rank_global); },
+                        std::string("plateau ") + command + " " + o.case_path.string());
+      rc != 0) {
+    return rc;
   }
   if (!quiet) std::cerr << "plateau: truth " << truth_summary(truth) << '\n';
 
@@ -234,21 +226,16 @@ int run_scoring(const char* command, const ScoreCommandOptions& o, const GlobalO
   std::size_t done = 0;
   const auto t0 = std::chrono::steady_clock::now();
   auto work = [&](std::size_t i) -> std::string {
-    nlohmann::json r;
     EvaluationOptions eo;
     eo.out_dir = out;
     eo.resume = !o.fresh;
     eo.history = history_of(command, o);
     eo.stop_flag = &stop_flag();
     if (!compare) eo.progress = progress_printer("run " + candidates[i].label, quiet);
-    try {
-      r["eval"] = evaluation_to_wire(evaluate(c, truth.data, candidates[i], eo));
-    } catch (const NumericalFailure& e) {
-      r["failure"] = e.what();
-    } catch (const RunInterrupted&) {
-      r["interrupted"] = true;
-    }
-    return r.dump();
+    return worker_result([&] {
+      return nlohmann::json{
+          {"eval", evaluation_to_wire(evaluate(c, truth.data, candidates[i], eo))}};
+    });
   };
   auto finished = [&](std::size_t i, const std::string& text) {
     const std::lock_guard<std::mutex> lock(print_mutex);

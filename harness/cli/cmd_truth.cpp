@@ -15,6 +15,7 @@
 #include "harness/cli/progress.hpp"
 #include "harness/cli/truth_options.hpp"
 #include "harness/run/run.hpp"
+#include "harness/study/dispatch.hpp"
 
 namespace plateau::cli {
 namespace {
@@ -92,6 +93,29 @@ TruthResult case_truth(const Case& c, const CacheChoice& choice, const GlobalOpt
   to.notice = [](const std::string& m) { std::cerr << "plateau: " << m << '\n'; };
   omp_set_num_threads(thread_count(global));
   return obtain_truth(c, to);
+}
+
+TruthResult shared_case_truth(const Ranks& ranks, const Case& c, const CacheChoice& choice,
+                              const GlobalOptions& global) {
+  return root_first(ranks, [&] {
+    CacheChoice rank_choice = choice;
+    rank_choice.force = choice.force && ranks.is_root();
+    return case_truth(c, rank_choice, global);
+  });
+}
+
+int obtain_truths(const std::function<void()>& obtain, const std::string& again) {
+  try {
+    obtain();
+  } catch (const NumericalFailure& e) {
+    print_error(std::cerr, std::string("the truth run failed: ") + e.what());
+    return kExitNumerical;
+  } catch (const RunInterrupted& e) {
+    std::cerr << "\nplateau: interrupted: " << e.what() << '\n';
+    if (!again.empty()) std::cerr << "plateau: continue with: " << again << '\n';
+    return kExitInterrupted;
+  }
+  return 0;
 }
 
 std::string truth_summary(const TruthResult& t) {

@@ -152,18 +152,10 @@ int run_tune_command(const TuneCommandOptions& o, const GlobalOptions& global) {
   rank_global.quiet = global.quiet || !ranks.is_root();
   const bool quiet = rank_global.quiet;
   TruthResult truth;
-  try {
-    truth = root_first(ranks, [&] {
-      CacheChoice cache = o.cache;
-      cache.force = cache.force && ranks.is_root();
-      return case_truth(c, cache, rank_global);
-    });
-  } catch (const NumericalFailure& e) {
-    print_error(std::cerr, std::string("the truth run failed: ") + e.what());
-    return kExitNumerical;
-  } catch (const RunInterrupted& e) {
-    std::cerr << "\nplateau: interrupted: " << e.what() << '\n';
-    return kExitInterrupted;
+  if (const int rc =
+          obtain_truths([&] { truth = shared_case_truth(ranks, c, o.cache, rank_global); }, "");
+      rc != 0) {
+    return rc;
   }
   if (!quiet) std::cerr << "plateau: truth " << truth_summary(truth) << '\n';
 

@@ -4,6 +4,7 @@
 
 #include <atomic>
 #include <filesystem>
+#include <functional>
 #include <string>
 
 #include "harness/case/case.hpp"
@@ -12,6 +13,10 @@
 
 namespace CLI {
 class App;
+}
+
+namespace plateau {
+class Ranks;
 }
 
 namespace plateau::cli {
@@ -31,6 +36,17 @@ inline constexpr int kExitInterrupted = 130;
 
 // The truth of the case from the cache (or computed now), with progress and notices on stderr.
 TruthResult case_truth(const Case& c, const CacheChoice& choice, const GlobalOptions& global);
+
+// The same for a command whose ranks all need the truth (compare, tune, regress under
+// mpirun): rank 0 obtains it first (computing it, or honouring --force), then the other ranks
+// read the cache entry it wrote.
+TruthResult shared_case_truth(const Ranks& ranks, const Case& c, const CacheChoice& choice,
+                              const GlobalOptions& global);
+
+// Runs `obtain`, which gets a command's truths. A truth run that fails numerically or is
+// interrupted is reported on stderr (with `again`, the command that continues, when not
+// empty) and its exit code returned (kExitNumerical, kExitInterrupted); 0 once they are there.
+int obtain_truths(const std::function<void()>& obtain, const std::string& again);
 
 // One line about where the truth came from.
 std::string truth_summary(const TruthResult& t);

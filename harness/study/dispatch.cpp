@@ -16,6 +16,8 @@
 #include <stdexcept>
 #include <thread>
 
+#include "harness/run/run.hpp"
+
 #ifdef PLATEAU_HAVE_MPI
 #include <mpi.h>
 #endif
@@ -249,6 +251,20 @@ std::vector<double> reals_of(const nlohmann::json& j) {
 }
 
 }  // namespace
+
+std::string worker_result(const std::function<nlohmann::json()>& run, const char* failure_key) {
+  nlohmann::json r;
+  try {
+    r = run();
+  } catch (const NumericalFailure& e) {
+    r = nlohmann::json::object();
+    r[failure_key] = e.what();
+  } catch (const RunInterrupted&) {
+    r = nlohmann::json::object();
+    r["interrupted"] = true;
+  }
+  return r.dump();
+}
 
 nlohmann::json evaluation_to_wire(const Evaluation& e) {
   const Scorecard& c = e.card;

@@ -100,6 +100,12 @@ auto root_first(const Ranks& ranks, F&& f) -> decltype(f()) {
 // Everything of an Evaluation, metrics in their order, numbers exact (shortest round-trip
 // text); a non-finite number travels as null and comes back as NaN (optionals: as nothing).
 nlohmann::json evaluation_to_wire(const Evaluation& e);
+
+// A study worker's result for spread(), as text: `run` returns the JSON of one finished
+// evaluation; a run that fails numerically gives {failure_key: its message}, an interrupted
+// one {"interrupted": true}. Other exceptions pass (spread rethrows them).
+std::string worker_result(const std::function<nlohmann::json()>& run,
+                          const char* failure_key = "failure");
 Evaluation evaluation_from_wire(const nlohmann::json& j);
 
 }  // namespace plateau

@@ -516,18 +516,15 @@ class Evaluator {
     for (std::size_t k = 0; k < params_.size(); ++k) {
       sets.push_back(closure_ + "." + params_[k].name + "=" + format_real(v[k]));
     }
-    nlohmann::json r;
-    try {
-      const Candidate cand = make_candidate(case_, closure_, sets);
-      EvaluationOptions eo;  // no files: the log is the tune's record
-      eo.stop_flag = o_.stop_flag;
-      r = point_result(plateau::evaluate(case_, truth_, cand, eo), o_.objective);
-    } catch (const NumericalFailure& e) {
-      r["failed"] = e.what();
-    } catch (const RunInterrupted&) {
-      r["interrupted"] = true;
-    }
-    return r.dump();
+    // "failed": the key of the tune log's records.
+    return worker_result(
+        [&] {
+          const Candidate cand = make_candidate(case_, closure_, sets);
+          EvaluationOptions eo;  // no files: the log is the tune's record
+          eo.stop_flag = o_.stop_flag;
+          return point_result(plateau::evaluate(case_, truth_, cand, eo), o_.objective);
+        },
+        "failed");
   }
 
   const Case& case_;

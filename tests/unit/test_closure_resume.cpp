@@ -16,35 +16,17 @@
 #include "harness/closure_host/registry.hpp"
 #include "harness/io/error.hpp"
 #include "harness/run/run.hpp"
+#include "tests/unit/run_fixtures.hpp"
 
 namespace plateau {
 namespace {
 
 namespace fs = std::filesystem;
 
-ModelParams two_layer(double dt) {
-  ModelParams p;
-  p.f0 = 8e-5;
-  p.beta = 2e-11;
-  p.thickness_m = {1000.0, 3000.0};
-  p.reduced_gravity = {0.02};
-  p.wind.profile = WindProfile::double_gyre;
-  p.wind.tau0 = 0.1;
-  p.a2 = 400.0;
-  p.bottom_drag = 1e-7;
-  p.dt = dt;
-  return p;
-}
+using fixtures::same_bits;
+using fixtures::two_layer;
 
-RunSchedule schedule() {
-  RunSchedule s;
-  s.length_s = 120 * 7200.0;
-  s.spinup_s = 40 * 7200.0;
-  s.snapshot_interval_s = 30 * 7200.0;
-  s.series_interval_s = 10 * 7200.0;
-  s.checkpoint_interval_s = 25 * 7200.0;
-  return s;
-}
+RunSchedule schedule() { return fixtures::short_schedule(); }
 
 HostOptions host_options() {
   HostOptions o;
@@ -63,16 +45,8 @@ std::unique_ptr<closure::Closure> closure_named(const std::string& name, const M
   return make_closure(*info, resolve_params(*info, nullptr, "test", sets), make_setup(m));
 }
 
-bool same_bits(const Field& a, const Field& b) {
-  return a.size() == b.size() &&
-         std::memcmp(a.data(), b.data(), sizeof(double) * static_cast<std::size_t>(a.size())) == 0;
-}
-
 fs::path scratch(const std::string& name) {
-  const fs::path d = fs::temp_directory_path() / ("plateau-test-closure-resume-" + name);
-  fs::remove_all(d);
-  fs::create_directories(d);
-  return d;
+  return fixtures::scratch_dir("closure-resume-" + name);
 }
 
 TEST(ClosureResume, EddyEnergyRunResumesBitForBit) {

@@ -14,49 +14,19 @@
 #include "harness/io/checkpoint.hpp"
 #include "harness/run/run.hpp"
 #include "harness/run/run_output.hpp"
+#include "tests/unit/run_fixtures.hpp"
 
 namespace plateau {
 namespace {
 
 namespace fs = std::filesystem;
 
-ModelParams two_layer(double dt) {
-  ModelParams p;
-  p.f0 = 8e-5;
-  p.beta = 2e-11;
-  p.thickness_m = {1000.0, 3000.0};
-  p.reduced_gravity = {0.02};
-  p.wind.profile = WindProfile::double_gyre;
-  p.wind.tau0 = 0.1;
-  p.wind.seasonal_amplitude = 0.3;
-  p.wind.seasonal_period_s = 30.0 * 86400.0;
-  p.a2 = 400.0;
-  p.bottom_drag = 1e-7;
-  p.dt = dt;
-  return p;
-}
+using fixtures::same_bits;
+using fixtures::short_schedule;
 
-fs::path scratch(const std::string& name) {
-  const fs::path d = fs::temp_directory_path() / ("plateau-test-run-" + name);
-  fs::remove_all(d);
-  fs::create_directories(d);
-  return d;
-}
+ModelParams two_layer(double dt) { return fixtures::two_layer(dt, true); }
 
-RunSchedule short_schedule() {
-  RunSchedule s;
-  s.length_s = 120 * 7200.0;
-  s.spinup_s = 40 * 7200.0;
-  s.snapshot_interval_s = 30 * 7200.0;
-  s.series_interval_s = 10 * 7200.0;
-  s.checkpoint_interval_s = 25 * 7200.0;
-  return s;
-}
-
-bool same_bits(const Field& a, const Field& b) {
-  return a.size() == b.size() &&
-         std::memcmp(a.data(), b.data(), sizeof(double) * static_cast<std::size_t>(a.size())) == 0;
-}
+fs::path scratch(const std::string& name) { return fixtures::scratch_dir("run-" + name); }
 
 TEST(Run, ResumeIsBitForBitIdenticalToAnUninterruptedRun) {
   const Grid g(24, 24, 8e5, 8e5);

@@ -136,19 +136,17 @@ class EddyEnergyClosure final : public Closure {
       const double* ej = e.data() + j * rows;
       const double* sj = sigma.data() + j * rows;
       double* kj = k.data() + j * rows;
-      double m = 0.0;  // K >= k_min >= 0
-#pragma omp simd reduction(max : m)
+#pragma omp simd
       for (int i = 1; i < nx; ++i) {
         // std::max and std::min on locals (on the loaded references GCC 12 keeps a branch
         // and does not vectorise the loop).
         const double sg = sj[i];
         const double v = alpha * ej[i] / (sg < floor ? floor : sg);
         const double a = v < lo ? lo : v;
-        const double b = hi < a ? hi : a;
-        kj[i] = b;
-        m = m < b ? b : m;
+        kj[i] = hi < a ? hi : a;
       }
-      row_max[static_cast<std::size_t>(j)] = m;
+      row_max[static_cast<std::size_t>(j)] =
+          Eigen::Map<const Eigen::ArrayXd>(kj + 1, static_cast<Eigen::Index>(nx - 1)).maxCoeff();
     });
     return *std::max_element(row_max.begin(), row_max.end());
   }

@@ -3,6 +3,7 @@
 #include <algorithm>
 #include <atomic>
 #include <cmath>
+#include <cstdlib>
 #include <limits>
 #include <numbers>
 #include <stdexcept>
@@ -24,6 +25,12 @@ double* col(Field& f, int j) { return f.data() + static_cast<Eigen::Index>(j) * 
 
 // Zeroes the first and last row and column: the faces and corners next to the walls, which
 // the loops never write, so that a reused scratch array has them at zero.
+// n values from p as an Eigen array, for its vectorised reductions (an `omp simd reduction`
+// kept its accumulator in memory in the baseline build: one store-to-load chain per vector).
+Eigen::Map<const Eigen::ArrayXd> row_segment(const double* p, int n) {
+  return {p, static_cast<Eigen::Index>(n)};
+}
+
 void zero_border(Field& f) {
   f.row(0).setZero();
   f.row(f.rows() - 1).setZero();
@@ -53,8 +60,13 @@ bool cpu_has_wide_simd() {
 }
 
 namespace {
+// PLATEAU_SIMD=baseline in the environment starts with the baseline build (to measure it, or
+// to compare bits on one machine).
 std::atomic<bool>& wide_flag() {
-  static std::atomic<bool> on{cpu_has_wide_simd()};
+  static std::atomic<bool> on{[] {
+    const char* v = std::getenv("PLATEAU_SIMD");
+    return cpu_has_wide_simd() && !(v != nullptr && std::string(v) == "baseline");
+  }()};
   return on;
 }
 }  // namespace
@@ -159,15 +171,12 @@ double eady_diffusivity(const Setup& s, std::span<const Field> psi, int j, doubl
   for_rows(parallel(s), 1, ny, [&](int jj) {
     shear_row(pa, pb, hx, hy, nx, jj, out);
     double* o = col(out, jj);
-    double m = 0.0;  // K >= 0
-#pragma omp simd reduction(max : m)
+#pragma omp simd
     for (int i = 1; i < nx; ++i) {
       const double k = a * o[i];
-      const double v = cap < k ? cap : k;  // std::min(k, cap), as a value select
-      o[i] = v;
-      m = m < v ? v : m;
+      o[i] = cap < k ? cap : k;  // std::min(k, cap), as a value select
     }
-    row_max[uz(jj)] = m;
+    row_max[uz(jj)] = row_segment(o + 1, nx - 1).maxCoeff();
   });
   double kmax = 0.0;
   for (int jj = 1; jj < ny; ++jj) kmax = std::max(kmax, row_max[uz(jj)]);
@@ -538,12 +547,8 @@ void zalesak_limit(const Setup& s, std::span<const Field> qt, double dt, bool co
                    m[1]);
       zalesak_node(q0[nx - 1], q0[nx - 2], q0[nx - 1], qs[nx - 1], qn[nx - 1], fxc[nx - 2],
                    fxc[nx - 1], fys[nx - 1], fyc[nx - 1], ax, ay, p[nx - 1], m[nx - 1]);
-      double lo = 1.0;  // min is exact and order-free
-#pragma omp simd reduction(min : lo)
-      for (int i = 1; i < nx; ++i) {
-        const double a = p[i] < m[i] ? p[i] : m[i];
-        lo = a < lo ? a : lo;
-      }
+      const double lo =
+          std::min(row_segment(p + 1, nx - 1).minCoeff(), row_segment(m + 1, nx - 1).minCoeff());
       if (lo < 1.0) limited[uz(j)] = 1;
     });
   }
@@ -764,28 +769,16 @@ void step_eddy_energy(const Setup& s, std::span<const Field> psi, std::span<cons
     const double* c0 = col(pc, j - 1);
     const double* c1 = col(pc, j);
     double* o = col(u, j);
-    double m = 0.0;
-#pragma omp simd reduction(max : m)
-    for (int i = 1; i < nx - 1; ++i) {
-      const double w = -(c1[i] - c0[i]) * iy;
-      o[i] = w;
-      const double a = std::abs(w);
-      m = m < a ? a : m;
-    }
-    row_u[uz(j)] = m;
+#pragma omp simd
+    for (int i = 1; i < nx - 1; ++i) o[i] = -(c1[i] - c0[i]) * iy;
+    row_u[uz(j)] = row_segment(o + 1, nx - 2).abs().maxCoeff();
   });
   for_rows(par, 1, ny - 1, [&](int j) {
     const double* c = col(pc, j);
     double* o = col(v, j);
-    double m = 0.0;
-#pragma omp simd reduction(max : m)
-    for (int i = 1; i < nx; ++i) {
-      const double w = (c[i] - c[i - 1]) * ix;
-      o[i] = w;
-      const double a = std::abs(w);
-      m = m < a ? a : m;
-    }
-    row_v[uz(j)] = m;
+#pragma omp simd
+    for (int i = 1; i < nx; ++i) o[i] = (c[i] - c[i - 1]) * ix;
+    row_v[uz(j)] = row_segment(o + 1, nx - 1).abs().maxCoeff();
   });
   const double umax = *std::max_element(row_u.begin(), row_u.end());
   const double vmax = *std::max_element(row_v.begin(), row_v.end());

@@ -29,8 +29,9 @@ void set_min_parallel_nodes(long nodes);
 // (SSE2) elsewhere. Both builds do the same IEEE operations on every element in the same order:
 // no fused multiply-add (AVX2 does not include FMA, and the project compiles with
 // -ffp-contract=off), no reassociation, so the bits are the same (tests/unit check it by
-// running every closure both ways). set_wide_simd(false) forces the baseline build (tests);
-// set_wide_simd(true) is ignored on a CPU without AVX2.
+// running every closure both ways). set_wide_simd(false) forces the baseline build (tests), as
+// PLATEAU_SIMD=baseline in the environment does from the start; set_wide_simd(true) is
+// ignored on a CPU without AVX2.
 [[nodiscard]] bool cpu_has_wide_simd();
 [[nodiscard]] bool wide_simd();
 void set_wide_simd(bool on);

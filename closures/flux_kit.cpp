@@ -23,14 +23,14 @@ const double* col(const Field& f, int j) {
 }
 double* col(Field& f, int j) { return f.data() + static_cast<Eigen::Index>(j) * f.rows(); }
 
-// Zeroes the first and last row and column: the faces and corners next to the walls, which
-// the loops never write, so that a reused scratch array has them at zero.
 // n values from p as an Eigen array, for its vectorised reductions (an `omp simd reduction`
 // kept its accumulator in memory in the baseline build: one store-to-load chain per vector).
 Eigen::Map<const Eigen::ArrayXd> row_segment(const double* p, int n) {
   return {p, static_cast<Eigen::Index>(n)};
 }
 
+// Zeroes the first and last row and column: the faces and corners next to the walls, which
+// the loops never write, so that a reused scratch array has them at zero.
 void zero_border(Field& f) {
   f.row(0).setZero();
   f.row(f.rows() - 1).setZero();
@@ -728,9 +728,7 @@ void step_eddy_energy(const Setup& s, std::span<const Field> psi, std::span<cons
   // The barotropic streamfunction sum_k H_k (psi_k - c_k) / H at the nodes, then at the corners
   // (i+1/2, j+1/2), i = 0..nx-1, j = 0..ny-1, the mean of the four nodes around; the ring of
   // corners next to the walls stays 0, which closes the walls of the interior control volumes.
-  // Layer by layer over the whole array (the same sum per node, in the same order, vectorised).
-  // Row by row, the layers added in order into each node (the same sum as layer by layer over
-  // the whole array).
+  // Row by row, the layers added into each node in their order.
   Field& pb = scratch.get(first_slot, nx + 1, ny + 1);
   {
     const double depth = s.total_depth();
